@@ -1,0 +1,246 @@
+"""Field validation for the panels: text in, new value or a one-line reason out.
+
+Plain Python (no Qt) so the rules are testable without a display. Each arm field
+is a :class:`ArmField` that shows an arm's value as text and builds the changed
+arm from typed text, raising :class:`Invalid` with the reason when the text is
+refused. The rules follow the cell file's: finite numbers, positive lengths,
+ordered joint limits at most 720 degrees wide, known elbow settings.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+
+from kinematics.cell import ELBOW_SETTINGS, Arm, Cell, Target
+from kinematics.cellfile import MAX_JOINT_RANGE_DEG, MAX_MAGNITUDE, CellFileError, dumps_cell
+
+__all__ = [
+    "Invalid",
+    "MAX_NAME_LENGTH",
+    "MAX_LIMIT_WIDTH",
+    "format_number",
+    "parse_number",
+    "parse_name",
+    "ArmField",
+    "ARM_FIELDS",
+    "arm_field",
+    "check_elbow",
+    "replace_arm",
+    "replace_target",
+    "target_with",
+    "check_cell",
+]
+
+#: Longest accepted name (characters); longer names break table layouts.
+MAX_NAME_LENGTH = 80
+#: Widest joint range accepted (degrees), the cell file's rule.
+MAX_LIMIT_WIDTH = MAX_JOINT_RANGE_DEG
+
+
+class Invalid(ValueError):
+    """Typed text that is refused; ``str()`` is the reason shown beside the field."""
+
+
+def format_number(value: float) -> str:
+    """Shortest text that reads back as exactly ``value`` ("400", "12.5", "0.1")."""
+    if value == int(value) and abs(value) < 1e15:
+        return str(int(value))
+    return repr(float(value))
+
+
+def parse_number(text: str) -> float:
+    """A finite number from typed text.
+
+    Examples
+    --------
+    >>> parse_number(" 12.5 ")
+    12.5
+    >>> parse_number("abc")
+    Traceback (most recent call last):
+    ...
+    app.panels.validate.Invalid: not a number: 'abc'
+    """
+    t = text.strip()
+    if not t:
+        raise Invalid("enter a number")
+    try:
+        v = float(t)
+    except ValueError:
+        raise Invalid(f"not a number: {t!r}") from None
+    if not math.isfinite(v):
+        raise Invalid(f"must be a finite number, got {t!r}")
+    if abs(v) > MAX_MAGNITUDE:
+        raise Invalid(f"must be between -{MAX_MAGNITUDE:g} and {MAX_MAGNITUDE:g}, got {t}")
+    return v
+
+
+def parse_name(text: str) -> str:
+    """A non-empty one-line name of at most :data:`MAX_NAME_LENGTH` characters."""
+    t = text.strip()
+    if not t:
+        raise Invalid("name must not be empty")
+    if any(c in t for c in "\r\n\t"):
+        raise Invalid("name must be one line")
+    if len(t) > MAX_NAME_LENGTH:
+        raise Invalid(f"name is {len(t)} characters long, at most {MAX_NAME_LENGTH} allowed")
+    return t
+
+
+def _positive(text: str) -> float:
+    v = parse_number(text)
+    if v <= 0:
+        raise Invalid(f"must be greater than 0, got {format_number(v)}")
+    return v
+
+
+def _limits(lo: float, hi: float) -> tuple[float, float]:
+    if lo >= hi:
+        raise Invalid(f"min must be below max ({format_number(lo)} >= {format_number(hi)})")
+    if hi - lo > MAX_LIMIT_WIDTH:
+        raise Invalid(f"range is {format_number(hi - lo)}°, at most {MAX_LIMIT_WIDTH:g}° allowed")
+    return (lo, hi)
+
+
+@dataclass(frozen=True)
+class ArmField:
+    """One editable arm field: its label, how it reads and how typed text changes the arm.
+
+    Attributes
+    ----------
+    key : str
+        Stable identifier (also the widget's object name).
+    label : str
+        Short label as in the undo text "Change <label> of <arm>".
+    unit : str
+        "length", "deg", "deg/s", "deg/s²" or "" (shown beside the field).
+    get : callable
+        ``get(arm) -> str``, the text shown for the arm's current value.
+    put : callable
+        ``put(arm, text) -> Arm``, the changed arm; raises :class:`Invalid`.
+    optional : bool
+        Empty text is accepted and clears the value.
+    """
+
+    key: str
+    label: str
+    unit: str
+    get: Callable[[Arm], str]
+    put: Callable[[Arm, str], Arm]
+    optional: bool = False
+
+
+def _scalar(key: str, label: str, unit: str, parse: Callable[[str], float]) -> ArmField:
+    return ArmField(
+        key,
+        label,
+        unit,
+        lambda arm: format_number(getattr(arm, key)),
+        lambda arm, text: replace(arm, **{key: parse(text)}),
+    )
+
+
+def _limit(key: str, label: str, attr: str, side: int) -> ArmField:
+    def put(arm: Arm, text: str) -> Arm:
+        pair = list(getattr(arm, attr))
+        pair[side] = parse_number(text)
+        return replace(arm, **{attr: _limits(pair[0], pair[1])})
+
+    return ArmField(key, label, "deg", lambda arm: format_number(getattr(arm, attr)[side]), put)
+
+
+def _pair(key: str, label: str, unit: str, attr: str, side: int) -> ArmField:
+    """One half of an optional pair: empty clears both, a value alone fills both halves."""
+
+    def get(arm: Arm) -> str:
+        pair = getattr(arm, attr)
+        return "" if pair is None else format_number(pair[side])
+
+    def put(arm: Arm, text: str) -> Arm:
+        if not text.strip():
+            return replace(arm, **{attr: None})
+        v = _positive(text)
+        old = getattr(arm, attr)
+        pair = [v, v] if old is None else list(old)
+        pair[side] = v
+        return replace(arm, **{attr: (pair[0], pair[1])})
+
+    return ArmField(key, label, unit, get, put, optional=True)
+
+
+def _name_put(arm: Arm, text: str) -> Arm:
+    return replace(arm, name=parse_name(text))
+
+
+#: The arm panel's text fields, in display order (the elbow setting is a choice list).
+ARM_FIELDS: tuple[ArmField, ...] = (
+    ArmField("name", "name", "", lambda arm: arm.name, _name_put),
+    _scalar("x", "base x", "length", parse_number),
+    _scalar("y", "base y", "length", parse_number),
+    _scalar("heading_deg", "heading", "deg", parse_number),
+    _scalar("a1", "a1", "length", _positive),
+    _scalar("a2", "a2", "length", _positive),
+    _limit("q1_min", "q1 min", "q1_limits", 0),
+    _limit("q1_max", "q1 max", "q1_limits", 1),
+    _limit("q2_min", "q2 min", "q2_limits", 0),
+    _limit("q2_max", "q2 max", "q2_limits", 1),
+    _pair("r1", "link 1 radius", "length", "link_radii", 0),
+    _pair("r2", "link 2 radius", "length", "link_radii", 1),
+    _pair("w1", "joint 1 speed", "deg/s", "joint_speed_dps", 0),
+    _pair("w2", "joint 2 speed", "deg/s", "joint_speed_dps", 1),
+    _pair("al1", "joint 1 acceleration", "deg/s²", "joint_accel_dps2", 0),
+    _pair("al2", "joint 2 acceleration", "deg/s²", "joint_accel_dps2", 1),
+)
+
+
+def arm_field(key: str) -> ArmField:
+    """The arm field with this key (KeyError when there is none)."""
+    for f in ARM_FIELDS:
+        if f.key == key:
+            return f
+    raise KeyError(key)
+
+
+def check_elbow(value: str) -> str:
+    """An elbow setting from the choice list."""
+    if value not in ELBOW_SETTINGS:
+        raise Invalid(f"elbow setting must be one of {', '.join(ELBOW_SETTINGS)}, got {value!r}")
+    return value
+
+
+def replace_arm(cell: Cell, arm: Arm) -> Cell:
+    """The cell with the arm of the same id replaced."""
+    return replace(cell, arms=tuple(arm if a.id == arm.id else a for a in cell.arms))
+
+
+def replace_target(cell: Cell, target: Target) -> Cell:
+    """The cell with the target of the same id replaced."""
+    return replace(cell, targets=tuple(target if t.id == target.id else t for t in cell.targets))
+
+
+def target_with(cell: Cell, target: Target, column: str, text: str) -> Target:
+    """The target with one table column ("name", "x", "y", "arm") changed from typed text."""
+    if column == "name":
+        return replace(target, name=parse_name(text))
+    if column in ("x", "y"):
+        return replace(target, **{column: parse_number(text)})
+    if column == "arm":
+        arm_id = text.strip()
+        ids = [a.id for a in cell.arms]
+        if arm_id not in ids:
+            raise Invalid(f"no arm with id {arm_id!r} (arms: {', '.join(ids)})")
+        return replace(target, arm=arm_id)
+    raise KeyError(column)
+
+
+def check_cell(cell: Cell) -> Cell:
+    """The cell if the cell file would store and load it back, else :class:`Invalid`.
+
+    The last gate before an edit: whatever the file format refuses, the panels refuse.
+    """
+    try:
+        dumps_cell(cell)
+    except CellFileError as exc:
+        raise Invalid(str(exc).removeprefix("<cell>: ")) from None
+    return cell

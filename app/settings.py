@@ -1,0 +1,127 @@
+"""The program's remembered settings: recent files, window layout, canvas toggles.
+
+Stored with QSettings under organisation "ElbowRoom", application "Elbow Room",
+in :meth:`QSettings.defaultFormat`, so tests can redirect everything to a
+temporary INI file with ``QSettings.setDefaultFormat`` and ``QSettings.setPath``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from pathlib import Path
+
+from PySide6.QtCore import QByteArray, QSettings
+
+__all__ = [
+    "ORGANISATION",
+    "APPLICATION",
+    "MAX_RECENT",
+    "open_settings",
+    "recent_files",
+    "add_recent_file",
+    "set_recent_files",
+    "load_bytes",
+    "save_bytes",
+    "load_toggles",
+    "save_toggles",
+]
+
+ORGANISATION = "ElbowRoom"
+APPLICATION = "Elbow Room"
+#: Length of the Open Recent menu.
+MAX_RECENT = 8
+
+_RECENT_KEY = "files/recent"
+_TOGGLE_GROUP = "canvas"
+
+
+def open_settings() -> QSettings:
+    """The program's settings store, in the current default format."""
+    return QSettings(
+        QSettings.defaultFormat(), QSettings.Scope.UserScope, ORGANISATION, APPLICATION
+    )
+
+
+def _as_list(value: object) -> list[str]:
+    # QSettings hands back a plain string for one-item lists and None for empty ones.
+    if value is None:
+        return []
+    if isinstance(value, str):
+        return [value] if value else []
+    if isinstance(value, Iterable):
+        return [str(v) for v in value if v]
+    return []
+
+
+def recent_files(settings: QSettings | None = None) -> list[Path]:
+    """Recently opened or saved files, newest first, missing files left out."""
+    s = settings or open_settings()
+    paths = [Path(p) for p in _as_list(s.value(_RECENT_KEY))]
+    kept = [p for p in paths if p.is_file()][:MAX_RECENT]
+    if len(kept) != len(paths):
+        set_recent_files(kept, s)
+    return kept
+
+
+def set_recent_files(paths: Iterable[Path], settings: QSettings | None = None) -> None:
+    """Store the recent-files list as given (at most :data:`MAX_RECENT`)."""
+    s = settings or open_settings()
+    unique = list(dict.fromkeys(str(Path(p)) for p in paths))[:MAX_RECENT]
+    s.setValue(_RECENT_KEY, unique)
+    s.sync()
+
+
+def add_recent_file(path: Path, settings: QSettings | None = None) -> list[Path]:
+    """Put ``path`` first in the recent-files list; returns the new list."""
+    s = settings or open_settings()
+    p = Path(path).resolve()
+    paths = [p] + [q for q in recent_files(s) if q.resolve() != p]
+    set_recent_files(paths, s)
+    return recent_files(s)
+
+
+def load_bytes(key: str, settings: QSettings | None = None) -> QByteArray | None:
+    """A stored byte blob (window geometry or state), None when there is none."""
+    value = (settings or open_settings()).value(key)
+    return value if isinstance(value, QByteArray) and not value.isEmpty() else None
+
+
+def save_bytes(key: str, value: QByteArray, settings: QSettings | None = None) -> None:
+    """Store a byte blob (window geometry or state)."""
+    s = settings or open_settings()
+    s.setValue(key, value)
+    s.sync()
+
+
+def _as_bool(value: object) -> bool | None:
+    # INI files read booleans back as the strings "true" / "false".
+    if isinstance(value, bool):
+        return value
+    if isinstance(value, str) and value.lower() in ("true", "false"):
+        return value.lower() == "true"
+    return None
+
+
+def load_toggles(settings: QSettings | None = None) -> dict[str, bool]:
+    """Stored checked states of the canvas actions, by action name."""
+    s = settings or open_settings()
+    s.beginGroup(_TOGGLE_GROUP)
+    try:
+        out = {}
+        for key in s.childKeys():
+            b = _as_bool(s.value(key))
+            if b is not None:
+                out[key] = b
+        return out
+    finally:
+        s.endGroup()
+
+
+def save_toggles(states: dict[str, bool], settings: QSettings | None = None) -> None:
+    """Store the checked states of the canvas actions, by action name."""
+    s = settings or open_settings()
+    s.beginGroup(_TOGGLE_GROUP)
+    for key, checked in states.items():
+        s.setValue(key, bool(checked))
+    s.endGroup()
+    s.sync()
