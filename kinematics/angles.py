@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-__all__ = ["wrap180", "representative", "limit_margin"]
+__all__ = ["wrap180", "representative", "limit_margin", "representative_and_margin"]
 
 # Angles this close to a limit count as on it (degrees); absorbs float noise from atan2.
 ANGLE_EPS = 1e-9
@@ -44,13 +44,28 @@ def representative(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.flo
     >>> representative(10.0, -360.0, 360.0).item()
     10.0
     """
+    return representative_and_margin(q, lo, hi)[0]
+
+
+def representative_and_margin(
+    q: ArrayLike, lo: ArrayLike, hi: ArrayLike
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """:func:`representative` and :func:`limit_margin` in one pass."""
     q = np.asarray(q, dtype=float)
     lo = np.asarray(lo, dtype=float)
     hi = np.asarray(hi, dtype=float)
     mid = 0.5 * (lo + hi)
+    width = hi - lo
     cand = q + 360.0 * np.round((mid - q) / 360.0)
-    inside = (cand >= lo - ANGLE_EPS) & (cand <= hi + ANGLE_EPS)
-    return np.where(inside, cand, wrap180(q))
+    # e > 0 is how far cand lies outside; the other way round is 360 - width - e.
+    # For width >= 360 the nearest representative is always inside (e <= 0).
+    e = np.abs(cand - mid) - 0.5 * width
+    margin = -np.minimum(e, (360.0 - width) - e)
+    inside = margin >= -ANGLE_EPS
+    if inside.all():  # the common case: skip the wrapping passes
+        return cand, np.maximum(margin, 0.0)
+    wrapped = wrap180(cand)
+    return np.where(inside, cand, wrapped), np.where(inside, np.maximum(margin, 0.0), margin)
 
 
 def limit_margin(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.float64]:
@@ -68,14 +83,4 @@ def limit_margin(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.float
     >>> limit_margin(-175.0, -90.0, 170.0).item()
     -15.0
     """
-    q = np.asarray(q, dtype=float)
-    lo = np.asarray(lo, dtype=float)
-    hi = np.asarray(hi, dtype=float)
-    rep = representative(q, lo, hi)
-    inside_margin = np.minimum(rep - lo, hi - rep)
-    # Outside: turn back to hi or forward to lo, whichever is shorter (width < 360 here).
-    past_hi = np.mod(q - hi, 360.0)
-    before_lo = np.mod(lo - q, 360.0)
-    outside_margin = -np.minimum(past_hi, before_lo)
-    inside = inside_margin >= -ANGLE_EPS
-    return np.where(inside, np.maximum(inside_margin, 0.0), outside_margin)
+    return representative_and_margin(q, lo, hi)[1]

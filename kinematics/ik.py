@@ -15,7 +15,7 @@ from enum import IntEnum
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .angles import ANGLE_EPS, limit_margin, representative
+from .angles import ANGLE_EPS, representative_and_margin
 from .cell import ELBOW_SETTINGS, Arm
 
 __all__ = [
@@ -171,81 +171,146 @@ def solve(
     (True, 'positive')
     """
     check_elbow_setting(elbow)
-    a1, a2, x, y, bx, by, h = np.broadcast_arrays(
-        *(np.asarray(v, dtype=float) for v in (a1, a2, x, y, base_x, base_y, heading_deg))
+    args = [np.asarray(v, dtype=float) for v in (a1, a2, x, y, base_x, base_y, heading_deg)]
+    shape = np.broadcast_shapes(*(a.shape for a in args))
+    n = int(np.prod(shape))
+    if n <= _CHUNK:
+        return _solve_block(*args, shape, q1_limits, q2_limits, elbow)
+    # Large batches go through in cache-sized blocks: fresh multi-megabyte temporaries
+    # cost more in page faults than the arithmetic itself.
+    flat = [np.broadcast_to(a, shape).reshape(-1) if a.ndim else a for a in args]
+    parts = [
+        _solve_block(
+            *(f[i : i + _CHUNK] if f.ndim else f for f in flat),
+            (min(_CHUNK, n - i),),
+            q1_limits,
+            q2_limits,
+            elbow,
+        )
+        for i in range(0, n, _CHUNK)
+    ]
+    return IKResult(
+        **{
+            name: np.concatenate([getattr(p, name) for p in parts]).reshape(
+                shape + getattr(parts[0], name).shape[1:]
+            )
+            for name in IKResult.__dataclass_fields__
+        }
     )
+
+
+_CHUNK = 1 << 15
+
+
+def _solve_block(
+    a1: NDArray[np.float64],
+    a2: NDArray[np.float64],
+    x: NDArray[np.float64],
+    y: NDArray[np.float64],
+    bx: NDArray[np.float64],
+    by: NDArray[np.float64],
+    h: NDArray[np.float64],
+    shape: tuple[int, ...],
+    q1_limits: tuple[float, float],
+    q2_limits: tuple[float, float],
+    elbow: str,
+) -> IKResult:
+    # Arm and base parameters stay unbroadcast so scalars cost nothing per target.
     lo1, hi1 = (float(v) for v in q1_limits)
     lo2, hi2 = (float(v) for v in q2_limits)
 
-    dx = x - bx
-    dy = y - by
-    r = np.hypot(dx, dy)
+    dx = np.broadcast_to(x - bx, shape)
+    dy = np.broadcast_to(y - by, shape)
+    r2 = dx * dx + dy * dy
+    r = np.sqrt(r2)
     rmax = a1 + a2
     rmin = np.abs(a1 - a2)
     eps = REACH_REL_EPS * rmax
     beyond = r > rmax + eps
     hole = r < rmin - eps
-    reachable = ~beyond & ~hole
+    reachable = ~(beyond | hole)
     at_stretch = reachable & (rmax - r <= eps)
     at_fold = reachable & (r - rmin <= eps)
     singular = at_stretch | at_fold
+    any_singular = bool(singular.any())
 
     # sin q2 from the factored form (rmax^2 - r^2)(r^2 - rmin^2): accurate near both circles.
-    r2 = r * r
-    with np.errstate(invalid="ignore"):
-        s2 = np.sqrt(np.clip((rmax * rmax - r2) * (r2 - rmin * rmin), 0.0, None)) / (2 * a1 * a2)
-    c2 = (r2 - a1 * a1 - a2 * a2) / (2 * a1 * a2)
-    s2 = np.where(singular, 0.0, s2)
-    c2 = np.where(at_stretch, 1.0, np.where(at_fold, -1.0, np.clip(c2, -1.0, 1.0)))
+    two_a1a2 = 2.0 * a1 * a2
+    s2 = np.sqrt(np.maximum((rmax * rmax - r2) * (r2 - rmin * rmin), 0.0)) / two_a1a2
+    c2 = np.clip((r2 - a1 * a1 - a2 * a2) / two_a1a2, -1.0, 1.0)
+    if any_singular:
+        s2 = np.where(singular, 0.0, s2)
+        c2 = np.where(at_stretch, 1.0, np.where(at_fold, -1.0, c2))
     q2_abs = np.degrees(np.arctan2(s2, c2))  # in [0, 180]
 
-    phi = np.degrees(np.arctan2(dy, dx))
-    q1 = np.empty(r.shape + (2,))
-    for k, sign in enumerate((1.0, -1.0)):
-        q1[..., k] = phi - np.degrees(np.arctan2(sign * a2 * s2, a1 + a2 * c2)) - h
-    # Equal links folded onto the base: every q1 works; take the middle of the range.
-    centre = at_fold & (r <= eps)
-    q1 = np.where(centre[..., None], 0.5 * (lo1 + hi1), q1)
+    phi = np.arctan2(dy, dx)
+    k1 = a1 + a2 * c2
+    k2 = a2 * s2
+    q1p = np.degrees(phi - np.arctan2(k2, k1)) - h
+    q1n = np.degrees(phi + np.arctan2(k2, k1)) - h
+    if any_singular:
+        # Equal links folded onto the base: every q1 works; take the middle of the range.
+        centre = at_fold & (r <= eps)
+        mid1 = 0.5 * (lo1 + hi1)
+        q1p = np.where(centre, mid1, q1p)
+        q1n = np.where(centre, mid1, q1n)
 
-    q1 = representative(q1, lo1, hi1)
-    q2 = np.stack([q2_abs, -q2_abs], axis=-1)
-    m1 = limit_margin(q1, lo1, hi1)
-    m2 = limit_margin(q2, lo2, hi2)
+    q1p, m1p = representative_and_margin(q1p, lo1, hi1)
+    q1n, m1n = representative_and_margin(q1n, lo1, hi1)
+    _, m2p = representative_and_margin(q2_abs, lo2, hi2)
+    _, m2n = representative_and_margin(-q2_abs, lo2, hi2)
 
-    nan = np.nan
-    q = np.stack([q1, q2], axis=-1)
-    q = np.where(reachable[..., None, None], q, nan)
-    joint_margin = np.stack([m1, m2], axis=-1)
-    joint_margin = np.where(reachable[..., None, None], joint_margin, nan)
-    within = reachable[..., None, None] & (joint_margin >= -ANGLE_EPS)
-    margin = np.min(joint_margin, axis=-1)
+    q = np.empty(shape + (2, 2))
+    q[..., 0, 0], q[..., 0, 1], q[..., 1, 0], q[..., 1, 1] = q1p, q2_abs, q1n, -q2_abs
+    jm = np.empty(shape + (2, 2))
+    jm[..., 0, 0], jm[..., 0, 1], jm[..., 1, 0], jm[..., 1, 1] = m1p, m2p, m1n, m2n
+    unreachable = ~reachable
+    if unreachable.any():
+        q[unreachable] = np.nan
+        jm[unreachable] = np.nan
+    within = jm >= -ANGLE_EPS  # NaN compares False
+    margin = np.empty(shape + (2,))
+    margin[..., 0] = np.minimum(m1p, m2p)
+    margin[..., 1] = np.minimum(m1n, m2n)
+    if unreachable.any():
+        margin[unreachable] = np.nan
+    within_both = within[..., 0] & within[..., 1]
 
-    allow = np.array([elbow in ("any", "positive"), elbow in ("any", "negative")])
+    allow_p = elbow in ("any", "positive")
+    allow_n = elbow in ("any", "negative")
+    allowed = np.empty(shape + (2,), dtype=bool)
     # A singular pose is the limit of both configurations, so either setting may use it.
-    allowed = np.broadcast_to(allow, r.shape + (2,)) | singular[..., None]
-    within_both = within.all(axis=-1)
+    allowed[..., 0] = singular | allow_p
+    allowed[..., 1] = singular | allow_n
     ok = within_both & allowed
-    feasible = ok.any(axis=-1)
+    ok_p, ok_n = ok[..., 0], ok[..., 1]
+    feasible = ok_p | ok_n
+    # The ok configuration with the larger limit margin; ties go to "positive".
+    prefer_n = ok_n & (~ok_p | (margin[..., 1] > margin[..., 0]))
+    chosen = np.where(feasible, prefer_n.astype(np.int64), -1)
 
-    score = np.where(ok, margin, -np.inf)
-    chosen = np.where(feasible, np.argmax(score, axis=-1), -1)  # ties go to "positive"
-
-    status = np.full(r.shape, int(Status.OK), dtype=np.int64)
-    status = np.where(beyond, int(Status.BEYOND_REACH), status)
-    status = np.where(hole, int(Status.INSIDE_HOLE), status)
+    status = np.zeros(shape, dtype=np.int64)
+    status[beyond] = Status.BEYOND_REACH
+    status[hole] = Status.INSIDE_HOLE
     unfit = reachable & ~feasible
-    excluded = unfit & (within_both & ~allowed).any(axis=-1)
-    # Otherwise name the worst joint of the allowed configuration that comes closest.
-    best_cfg = np.argmax(np.where(allowed, np.nan_to_num(margin, nan=-np.inf), -np.inf), axis=-1)
-    jm = np.take_along_axis(np.nan_to_num(joint_margin, nan=0.0), best_cfg[..., None, None], -2)
-    worst_joint = np.argmin(jm[..., 0, :], axis=-1)
-    limit_code = np.where(worst_joint == 0, int(Status.Q1_LIMIT), int(Status.Q2_LIMIT))
-    status = np.where(excluded, int(Status.ELBOW_EXCLUDED), status)
-    status = np.where(unfit & ~excluded, limit_code, status)
+    if unfit.any():
+        excluded = unfit & ((within_both & ~allowed).any(axis=-1))
+        # Otherwise name the worst joint of the allowed configuration that comes closest.
+        mp = np.where(allowed[..., 0], margin[..., 0], -np.inf)
+        mn = np.where(allowed[..., 1], margin[..., 1], -np.inf)
+        use_n = mn > mp
+        j1 = np.where(use_n, m1n, m1p)
+        j2 = np.where(use_n, m2n, m2p)
+        limit_code = np.where(j1 <= j2, int(Status.Q1_LIMIT), int(Status.Q2_LIMIT))
+        status = np.where(excluded, int(Status.ELBOW_EXCLUDED), status)
+        status = np.where(unfit & ~excluded, limit_code, status)
 
     reach_margin = np.minimum(rmax - r, r - rmin)
-    manip = np.where(reachable, a1 * a2 * s2, 0.0)
-    manip = np.stack([manip, manip], axis=-1)
+    manip1 = np.where(reachable, a1 * a2 * s2, 0.0)
+    manip = np.empty(shape + (2,))
+    manip[..., 0] = manip1
+    manip[..., 1] = manip1
+    joint_margin = jm
     return IKResult(
         q_deg=q,
         reachable=reachable,

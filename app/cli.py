@@ -1,0 +1,119 @@
+"""The `elbowroom` command.
+
+``elbowroom [CELL]`` opens the window (no argument: the bundled default cell);
+``elbowroom check CELL [--json]`` prints the reach report without a window.
+Exit status of ``check``: 0 when every target is feasible, 1 when some are not,
+2 when the file or the arguments cannot be used (one line on stderr).
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+
+__all__ = ["main"]
+
+EXIT_OK, EXIT_INFEASIBLE, EXIT_UNUSABLE = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a bad argument in one line and exits 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        sys.stderr.write(f"{self.prog}: {message} (see '{self.prog} --help')\n")
+        raise SystemExit(EXIT_UNUSABLE)
+
+
+def _parse_size(text: str) -> tuple[int, int]:
+    try:
+        w, h = (int(v) for v in text.lower().split("x"))
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"--size must look like 1600x1000, got {text!r}") from None
+    if not (100 <= w <= 10000 and 100 <= h <= 10000):
+        raise argparse.ArgumentTypeError(f"--size must be 100..10000 pixels each way, got {text!r}")
+    return w, h
+
+
+def _check_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="elbowroom check", description="Report which targets each arm reaches.")
+    p.add_argument("cell", type=Path, help="a *.cell.json file")
+    p.add_argument("--json", action="store_true", help="print one JSON object instead of a table")
+    return p
+
+
+def _window_parser() -> argparse.ArgumentParser:
+    p = _Parser(
+        prog="elbowroom",
+        description="Open the Elbow Room window. Subcommands: 'check CELL [--json]'.",
+    )
+    p.add_argument("cell", type=Path, nargs="?", help="a *.cell.json file (default: bundled cell)")
+    p.add_argument("--screenshot", type=Path, metavar="FILE.png", help="save the window and exit")
+    p.add_argument("--size", type=_parse_size, metavar="WxH", help="window size for --screenshot")
+    return p
+
+
+def _load(path: Path):
+    from kinematics.cellfile import CellFileError, load_cell
+
+    try:
+        return load_cell(path)
+    except CellFileError as err:
+        sys.stderr.write(f"{err}\n")
+        return None
+
+
+def _run_check(path: Path, as_json: bool) -> int:
+    from kinematics.report import check_report, format_check_table
+
+    cell = _load(path)
+    if cell is None:
+        return EXIT_UNUSABLE
+    report = check_report(cell)
+    report["file"] = path.name
+    if as_json:
+        sys.stdout.write(json.dumps(report, indent=2, ensure_ascii=False) + "\n")
+    else:
+        sys.stdout.write(format_check_table(report) + "\n")
+    return EXIT_OK if report["summary"]["infeasible"] == 0 else EXIT_INFEASIBLE
+
+
+def has_display() -> bool:
+    """True when a window can be shown (or Qt was told which platform to use)."""
+    if os.environ.get("QT_QPA_PLATFORM"):
+        return True
+    if sys.platform.startswith("linux"):
+        return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+    return True
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the ``elbowroom`` console script."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    try:
+        if args and args[0] == "check":
+            ns = _check_parser().parse_args(args[1:])
+            return _run_check(ns.cell, ns.json)
+        ns = _window_parser().parse_args(args)
+    except SystemExit as exc:  # argparse: --help exits 0, errors exit 2
+        return int(exc.code or 0)
+
+    from app.resources import default_cell_path
+
+    path = ns.cell if ns.cell is not None else default_cell_path()
+    if ns.screenshot is None and not has_display():
+        print(
+            f"No display available: printing the check report of {path.name} instead of a window."
+        )
+        code = _run_check(path, as_json=False)
+        # The report's findings are not a failure of the run.
+        return EXIT_UNUSABLE if code == EXIT_UNUSABLE else EXIT_OK
+    from app.gui import run
+
+    return run(path, screenshot=ns.screenshot, size=ns.size)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

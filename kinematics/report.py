@@ -1,0 +1,169 @@
+"""The `check` report: every target's verdict as a JSON-ready dict and as a text table.
+
+Lengths and areas are in the cell's units, angles in degrees.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from .caution import CAUTION_SHORT
+from .cell import Cell
+from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
+from .ik import ELBOWS
+from .regions import arm_regions
+
+__all__ = ["REGION_TOL_MM", "check_report", "format_check_table"]
+
+#: Chord error of region polygons, in millimetres.
+REGION_TOL_MM = 0.05
+
+
+def _num(v: float, nd: int = 6) -> float | None:
+    v = float(v)
+    return None if not math.isfinite(v) else round(v, nd)
+
+
+def _solutions(ev: ArmEvaluation, i: int) -> list[dict[str, Any]]:
+    ik = ev.ik
+    if not bool(ik.reachable[i]):
+        return []
+    # A singular pose is one pose for both configurations: report it once.
+    configs = (0,) if bool(ik.singular[i]) else (0, 1)
+    out = []
+    for k in configs:
+        q1, q2 = ik.q_deg[i, k]
+        if bool(ik.singular[i]):
+            q2 = abs(q2)  # 0 or 180, never "-0"
+        out.append(
+            {
+                "elbow": "both" if bool(ik.singular[i]) else ELBOWS[k],
+                "q_deg": [_num(q1), _num(q2)],
+                "within_limits": bool(ik.within_limits[i, k].all()),
+                "allowed": bool(ik.allowed[i, k]),
+                "limit_margin_deg": _num(ik.limit_margin_deg[i, k]),
+                "singular": bool(ik.singular[i]),
+                "manipulability": _num(ik.manipulability[i, k]),
+            }
+        )
+    return out
+
+
+def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
+    if bool(ev.feasible[i]):
+        return None
+    text = ev.reason(i)
+    m = float(ev.ik.reach_margin[i])
+    if not bool(ev.ik.reachable[i]):
+        return f"{text} by {abs(m):.1f} {units}"
+    return text
+
+
+def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[str, Any]:
+    """Build the ``check --json`` report of a cell.
+
+    Examples
+    --------
+    >>> from kinematics.cell import Arm, Target
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (0, 180), (-120, 120))
+    >>> cell = Cell("demo", arms=(arm,), targets=(Target("t", "T", 480, 480, "a"),))
+    >>> rep = check_report(cell)
+    >>> rep["targets"][0]["feasible"], rep["targets"][0]["reason"]
+    (False, 'beyond outer reach by 28.8 mm')
+    """
+    ev_all = evaluation if evaluation is not None else evaluate_cell(cell)
+    tol = REGION_TOL_MM / cell.mm_per_unit
+    arms = []
+    for arm in cell.arms:
+        reg = arm_regions(arm, tol=tol)
+        arms.append(
+            {
+                "id": arm.id,
+                "name": arm.name,
+                "reach_min": _num(arm.reach_min),
+                "reach_max": _num(arm.reach_max),
+                "reachable_area": _num(reg.reachable.area, 3),
+                "both_elbows_area": _num(reg.both.area, 3),
+            }
+        )
+    targets = []
+    for t in cell.targets:
+        ev, i = ev_all.locate(t.id)
+        targets.append(
+            {
+                "id": t.id,
+                "name": t.name,
+                "arm": t.arm,
+                "x": _num(t.x),
+                "y": _num(t.y),
+                "feasible": bool(ev.feasible[i]),
+                "chosen_elbow": ev.chosen_elbow(i),
+                "reason": _reason(ev, i, cell.units),
+                "reach_margin": _num(ev.ik.reach_margin[i]),
+                "solutions": _solutions(ev, i),
+            }
+        )
+    n_ok = sum(1 for t in targets if t["feasible"])
+    summary = {
+        "targets": len(targets),
+        "feasible": n_ok,
+        "infeasible": len(targets) - n_ok,
+        "infeasible_ids": [t["id"] for t in targets if not t["feasible"]],
+        "caution": CAUTION_SHORT,
+    }
+    return {
+        "cell": cell.name,
+        "units": cell.units,
+        "arms": arms,
+        "targets": targets,
+        "summary": summary,
+    }
+
+
+def _fmt(v: float | None, nd: int = 1) -> str:
+    return "-" if v is None else f"{v:.{nd}f}"
+
+
+def format_check_table(report: dict[str, Any]) -> str:
+    """Render a report as a plain-text table for the terminal."""
+    u = report["units"]
+    lines = [f"Cell: {report['cell']}   (lengths in {u}, angles in degrees)", ""]
+    for a in report["arms"]:
+        lines.append(
+            f"Arm {a['id']} ({a['name']}): "
+            f"reach {_fmt(a['reach_min'])}..{_fmt(a['reach_max'])} {u}, "
+            f"reachable area {_fmt(a['reachable_area'], 0)} {u}^2, "
+            f"both configurations {_fmt(a['both_elbows_area'], 0)} {u}^2"
+        )
+    lines.append("")
+    head = (
+        f"{'':2}{'target':<10} {'arm':<6} {'verdict':<9} {'elbow':<9} "
+        f"{'q1':>8} {'q2':>8} {'lim.marg':>9} {'reach.m':>9}  reason"
+    )
+    lines += [head, "-" * len(head)]
+    for t in report["targets"]:
+        mark = "ok" if t["feasible"] else "XX"
+        sol = None
+        if t["chosen_elbow"] is not None:
+            sol = next(s for s in t["solutions"] if s["elbow"] == t["chosen_elbow"])
+        elif t["solutions"]:
+            sol = max(t["solutions"], key=lambda s: s["limit_margin_deg"])
+        q1 = _fmt(sol["q_deg"][0]) if sol else "-"
+        q2 = _fmt(sol["q_deg"][1]) if sol else "-"
+        lm = _fmt(sol["limit_margin_deg"]) if sol else "-"
+        verdict = "reach" if t["feasible"] else "FAIL"
+        elbow = t["chosen_elbow"] or "-"
+        lines.append(
+            f"{mark:<2}{t['id']:<10} {t['arm']:<6} {verdict:<9} {elbow:<9} "
+            f"{q1:>8} {q2:>8} {lm:>9} {_fmt(t['reach_margin']):>9}  {t['reason'] or ''}"
+        )
+    s = report["summary"]
+    lines += [
+        "",
+        f"{s['feasible']} of {s['targets']} targets feasible"
+        + (f"; failing: {', '.join(s['infeasible_ids'])}" if s["infeasible_ids"] else ""),
+        "",
+        f"CAUTION: {s['caution']}",
+    ]
+    return "\n".join(lines)
