@@ -11,7 +11,7 @@ from typing import Any
 from .caution import CAUTION_SHORT
 from .cell import Cell
 from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
-from .ik import ELBOWS
+from .ik import ELBOWS, Status
 from .regions import arm_regions
 
 __all__ = ["REGION_TOL_MM", "check_report", "format_check_table"]
@@ -57,6 +57,14 @@ def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
     m = float(ev.ik.reach_margin[i])
     if not bool(ev.ik.reachable[i]):
         return f"{text} by {abs(m):.1f} {units}"
+    ik = ev.ik
+    if int(ev.status[i]) in (Status.Q1_LIMIT, Status.Q2_LIMIT):
+        # The allowed configuration that comes closest tells how far the joint must go.
+        margins = [float(ik.limit_margin_deg[i, k]) for k in (0, 1) if bool(ik.allowed[i, k])]
+        return f"{text} by {abs(max(margins)):.1f} deg"
+    if int(ev.status[i]) == Status.ELBOW_EXCLUDED:
+        fits = [ELBOWS[k] for k in (0, 1) if bool(ik.within_limits[i, k].all())]
+        return f"{text} (only {' or '.join(fits)} fits)"
     return text
 
 
@@ -137,27 +145,50 @@ def format_check_table(report: dict[str, Any]) -> str:
             f"both configurations {_fmt(a['both_elbows_area'], 0)} {u}^2"
         )
     lines.append("")
-    head = (
-        f"{'':2}{'target':<10} {'arm':<6} {'verdict':<9} {'elbow':<9} "
-        f"{'q1':>8} {'q2':>8} {'lim.marg':>9} {'reach.m':>9}  reason"
-    )
-    lines += [head, "-" * len(head)]
+    rows = [
+        (
+            "",
+            "target",
+            "arm",
+            "verdict",
+            "elbow",
+            "q1",
+            "q2",
+            "lim.margin",
+            "reach.margin",
+            "reason",
+        )
+    ]
     for t in report["targets"]:
-        mark = "ok" if t["feasible"] else "XX"
         sol = None
         if t["chosen_elbow"] is not None:
             sol = next(s for s in t["solutions"] if s["elbow"] == t["chosen_elbow"])
-        elif t["solutions"]:
-            sol = max(t["solutions"], key=lambda s: s["limit_margin_deg"])
-        q1 = _fmt(sol["q_deg"][0]) if sol else "-"
-        q2 = _fmt(sol["q_deg"][1]) if sol else "-"
-        lm = _fmt(sol["limit_margin_deg"]) if sol else "-"
-        verdict = "reach" if t["feasible"] else "FAIL"
-        elbow = t["chosen_elbow"] or "-"
-        lines.append(
-            f"{mark:<2}{t['id']:<10} {t['arm']:<6} {verdict:<9} {elbow:<9} "
-            f"{q1:>8} {q2:>8} {lm:>9} {_fmt(t['reach_margin']):>9}  {t['reason'] or ''}"
+        elif t["solutions"]:  # the configuration that comes closest, to show by how much
+            allowed = [s for s in t["solutions"] if s["allowed"]] or t["solutions"]
+            sol = max(allowed, key=lambda s: s["limit_margin_deg"])
+        rows.append(
+            (
+                "ok" if t["feasible"] else "XX",
+                t["id"],
+                t["arm"],
+                "reach" if t["feasible"] else "FAIL",
+                t["chosen_elbow"] or "-",
+                _fmt(sol["q_deg"][0]) if sol else "-",
+                _fmt(sol["q_deg"][1]) if sol else "-",
+                _fmt(sol["limit_margin_deg"]) if sol else "-",
+                _fmt(t["reach_margin"]),
+                t["reason"] or "",
+            )
         )
+    widths = [max(len(r[c]) for r in rows) for c in range(len(rows[0]))]
+    right = {5, 6, 7, 8}
+    for n, r in enumerate(rows):
+        cells = [
+            v.rjust(w) if c in right else v.ljust(w) for c, (v, w) in enumerate(zip(r, widths))
+        ]
+        lines.append("  ".join(cells).rstrip())
+        if n == 0:
+            lines.append("-" * len(lines[-1]))
     s = report["summary"]
     lines += [
         "",
