@@ -7,6 +7,22 @@ QSettings never reads or writes the real user's configuration.
 import os
 import tempfile
 
+import pytest
+
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 # QSettings (native format on Linux) and QStandardPaths follow XDG_CONFIG_HOME.
 os.environ["XDG_CONFIG_HOME"] = tempfile.mkdtemp(prefix="elbowroom-test-config-")
+
+
+@pytest.fixture
+def isolated_settings(tmp_path):
+    """Point QSettings at an empty INI store in ``tmp_path`` for one test."""
+    from PySide6.QtCore import QSettings
+
+    old = QSettings.defaultFormat()
+    QSettings.setDefaultFormat(QSettings.Format.IniFormat)
+    QSettings.setPath(
+        QSettings.Format.IniFormat, QSettings.Scope.UserScope, str(tmp_path / "qsettings")
+    )
+    yield tmp_path / "qsettings"
+    QSettings.setDefaultFormat(old)

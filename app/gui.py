@@ -1,0 +1,115 @@
+"""Start the desktop program: ``run(cell_path)`` opens the main window on a cell.
+
+With ``screenshot`` the window is drawn once at a fixed size, saved as a PNG and
+closed, which works without a display (the offscreen platform is used then).
+"""
+
+from __future__ import annotations
+
+import os
+import sys
+from pathlib import Path
+
+from app.resources import default_cell_path
+from kinematics.cellfile import CellFileError, load_cell
+
+__all__ = ["run", "DEFAULT_SCREENSHOT_SIZE", "SETTLE_MS"]
+
+#: Window size for screenshots, in pixels.
+DEFAULT_SCREENSHOT_SIZE = (1600, 1000)
+#: How long a screenshot waits for layout and first paint to settle, in milliseconds.
+SETTLE_MS = 300
+
+
+def _has_display() -> bool:
+    if sys.platform != "linux":
+        return True
+    return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+
+
+def run(
+    cell_path: Path | None,
+    screenshot: Path | None = None,
+    size: tuple[int, int] | None = None,
+) -> int:
+    """Open the main window on a cell file and run until it is closed.
+
+    Parameters
+    ----------
+    cell_path : Path or None
+        Cell file to open; None opens the bundled sample cell as an unsaved copy.
+    screenshot : Path, optional
+        Save a PNG of the window here instead of running interactively.
+    size : (int, int), optional
+        Window size for the screenshot (default 1600 x 1000).
+
+    Returns
+    -------
+    int
+        0 on success, 2 when the cell file is bad (its one-line message is
+        printed to stderr), 1 when the screenshot could not be written.
+    """
+    path = Path(cell_path) if cell_path is not None else default_cell_path()
+    try:
+        cell = load_cell(path)
+    except CellFileError as exc:
+        print(str(exc), file=sys.stderr)
+        return 2
+    if screenshot is not None and not _has_display() and not os.environ.get("QT_QPA_PLATFORM"):
+        os.environ["QT_QPA_PLATFORM"] = "offscreen"
+
+    from PySide6.QtCore import QTimer
+    from PySide6.QtWidgets import QApplication
+
+    from app.document import Document
+    from app.main_window import MainWindow
+    from app.settings import APPLICATION, ORGANISATION
+
+    app = QApplication.instance() or QApplication(sys.argv[:1])
+    app.setOrganizationName(ORGANISATION)
+    app.setApplicationName(APPLICATION)
+    app.setApplicationDisplayName(APPLICATION)
+
+    if cell_path is None:
+        # The bundled sample opens as an unsaved copy, so Save never writes into the program.
+        document = Document(cell, None)
+        untitled = f"{path.name} (sample)"
+    else:
+        document = Document(cell, path)
+        untitled = path.name
+    window = MainWindow(document, use_settings=screenshot is None, untitled_name=untitled)
+    if cell_path is not None and screenshot is None:
+        window._remember(path)
+
+    if screenshot is None:
+        window.show()
+        window.canvas.zoom_to_fit()
+        code = app.exec()
+        _dispose(window, app)
+        return int(code)
+
+    w, h = size or DEFAULT_SCREENSHOT_SIZE
+    window.resize(w, h)
+    window.show()
+    app.processEvents()
+    window.canvas.zoom_to_fit()
+    QTimer.singleShot(SETTLE_MS, app.quit)
+    app.exec()
+    app.processEvents()
+    image = window.grab()
+    shot = Path(screenshot)
+    ok = shot.parent.is_dir() and image.save(str(shot), "PNG")
+    if not ok:
+        print(f"{shot}: could not write the screenshot (does the folder exist?)", file=sys.stderr)
+    _dispose(window, app)
+    return 0 if ok else 1
+
+
+def _dispose(window, app) -> None:
+    """Delete the window before the interpreter tears Qt down (avoids crashes at exit)."""
+    from PySide6.QtCore import QEvent
+
+    window.hide()
+    window.deleteLater()
+    app.sendPostedEvents(None, QEvent.Type.DeferredDelete)
+    app.processEvents()

@@ -1,0 +1,367 @@
+"""The target table: every target with the engine's verdict, sortable and editable.
+
+Rows follow the cell's targets; the numbers come from ``document.evaluation``.
+Name, x, y and arm are editable (validated; each change is one undo step).
+Selection is shared with the canvas through ``document.selection``.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any
+
+from PySide6.QtCore import (
+    QAbstractTableModel,
+    QItemSelection,
+    QItemSelectionModel,
+    QModelIndex,
+    QPersistentModelIndex,
+    QSortFilterProxyModel,
+    Qt,
+    Signal,
+)
+from PySide6.QtGui import QBrush, QColor, QFont
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QComboBox,
+    QHeaderView,
+    QStyledItemDelegate,
+    QTableView,
+    QWidget,
+)
+
+from app.bind import EchoGuard
+from app.document import Changes, Document
+from app.panels.text import closest_configuration, degrees, length, status_cell
+from app.panels.validate import Invalid, check_cell, format_number, replace_target, target_with
+from app.style import status_style
+from kinematics.ik import Status
+
+__all__ = ["Column", "COLUMNS", "SORT_ROLE", "TargetTableModel", "TargetTable"]
+
+#: Role holding the value the proxy sorts by (numbers sort as numbers).
+SORT_ROLE = Qt.ItemDataRole.UserRole + 1
+#: Role holding the target id of a row.
+ID_ROLE = Qt.ItemDataRole.UserRole + 2
+
+
+@dataclass(frozen=True)
+class Column:
+    key: str
+    header: str
+    tip: str
+    editable: bool = False
+    numeric: bool = False
+
+
+COLUMNS = (
+    Column("id", "id", "Target id"),
+    Column("name", "name", "Target name (editable)", editable=True),
+    Column("x", "x", "x in the cell's units (editable)", editable=True, numeric=True),
+    Column("y", "y", "y in the cell's units (editable)", editable=True, numeric=True),
+    Column("arm", "arm", "Arm the target is assigned to (editable)", editable=True),
+    Column("status", "status", "ok, or why the target fails"),
+    Column("elbow", "elbow", "Chosen elbow configuration (both at a singular pose)"),
+    Column("q1p", "q1 +", "q1 of the positive configuration (q2 > 0), degrees", numeric=True),
+    Column("q2p", "q2 +", "q2 of the positive configuration, degrees", numeric=True),
+    Column("q1n", "q1 −", "q1 of the negative configuration (q2 < 0), degrees", numeric=True),
+    Column("q2n", "q2 −", "q2 of the negative configuration, degrees", numeric=True),
+    Column(
+        "limit",
+        "limit margin",
+        "Degrees to the nearest joint limit in the chosen configuration (negative: past it)",
+        numeric=True,
+    ),
+    Column(
+        "reach",
+        "reach margin",
+        "Distance to the nearer reach circle (negative: outside the annulus)",
+        numeric=True,
+    ),
+    Column(
+        "manip",
+        "manipulability",
+        "a1·a2·|sin q2|: 0 at a singular pose (stretched or folded), largest at q2 = ±90°",
+        numeric=True,
+    ),
+)
+_KEYS = [c.key for c in COLUMNS]
+_EDIT_LABELS = {
+    "name": "Rename {id}",
+    "x": "Move {id}",
+    "y": "Move {id}",
+    "arm": "Assign {id} to arm",
+}
+
+
+_ROOT = QModelIndex()
+
+
+@dataclass
+class _Row:
+    id: str
+    text: list[str]
+    sort: list[Any]
+    status: int
+    feasible: bool
+
+
+def _num(v: float) -> float:
+    return v if math.isfinite(v) else -math.inf
+
+
+class TargetTableModel(QAbstractTableModel):
+    """Table model over the document's targets and their evaluation.
+
+    Signals
+    -------
+    refused(str)
+        An edit was refused; the text names the target, the column and the reason.
+    """
+
+    refused = Signal(str)
+
+    def __init__(self, document: Document, parent: Any = None) -> None:
+        super().__init__(parent)
+        self.document = document
+        self._rows: list[_Row] = []
+        self._rebuild()
+        document.events.cell_changed.connect(self._on_cell_changed)
+
+    # ------------------------------------------------------------------ contents
+
+    def _rebuild(self) -> None:
+        evaluation = self.document.evaluation
+        cell = evaluation.cell
+        u = cell.units
+        rows = []
+        for t in cell.targets:
+            try:
+                ev, i = evaluation.locate(t.id)
+            except KeyError:
+                text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
+                text += [f"✕ FAIL: no arm {t.arm!r}"] + ["—"] * 8
+                sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * 8
+                rows.append(_Row(t.id, text, sort, int(Status.BEYOND_REACH), False))
+                continue
+            ik = ev.ik
+            q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
+            chosen = int(ev.chosen[i])
+            k = chosen if chosen >= 0 else closest_configuration(ev, i)
+            limit = float(ik.limit_margin_deg[i, k])
+            reach = float(ik.reach_margin[i])
+            manip = float(ik.manipulability[i, k])
+            elbow = ev.chosen_elbow(i) or "—"
+            st = int(ev.status[i])
+            text = [
+                t.id,
+                t.name,
+                length(t.x, u, False),
+                length(t.y, u, False),
+                t.arm,
+                status_cell(ev, i, u),
+                elbow,
+                *(degrees(v, False) for v in q),
+                degrees(limit, False),
+                length(reach, u, False),
+                f"{manip:.4g}" if math.isfinite(manip) else "—",
+            ]
+            sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
+            sort += [_num(limit), _num(reach), _num(manip)]
+            rows.append(_Row(t.id, text, sort, st, bool(ev.feasible[i])))
+        self._rows = rows
+
+    def _on_cell_changed(self, changes: Changes) -> None:
+        if changes.structure or len(self._rows) != len(self.document.cell.targets):
+            self.beginResetModel()
+            self._rebuild()
+            self.endResetModel()
+        else:
+            self._rebuild()
+            if self._rows:
+                last = self.index(len(self._rows) - 1, len(COLUMNS) - 1)
+                self.dataChanged.emit(self.index(0, 0), last)
+        if changes.other:
+            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(COLUMNS) - 1)
+
+    def target_id(self, row: int) -> str:
+        """Id of the target in a (source) row."""
+        return self._rows[row].id
+
+    def row_of(self, target_id: str) -> int:
+        """Source row of a target, -1 when there is none."""
+        for r, row in enumerate(self._rows):
+            if row.id == target_id:
+                return r
+        return -1
+
+    # ------------------------------------------------------------------ Qt model API
+
+    def rowCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
+        return 0 if parent.isValid() else len(self._rows)
+
+    def columnCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
+        return 0 if parent.isValid() else len(COLUMNS)
+
+    def headerData(self, section: int, orientation: Qt.Orientation, role: int = 0) -> Any:
+        if orientation != Qt.Orientation.Horizontal or not 0 <= section < len(COLUMNS):
+            return None
+        col = COLUMNS[section]
+        if role == Qt.ItemDataRole.DisplayRole:
+            units = self.document.cell.units
+            if col.key in ("x", "y", "reach"):
+                return f"{col.header} ({units})"
+            if col.key in ("q1p", "q2p", "q1n", "q2n", "limit"):
+                return f"{col.header} (°)"
+            return col.header
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return col.tip
+        return None
+
+    def data(self, index: QModelIndex | QPersistentModelIndex, role: int = 0) -> Any:
+        if not index.isValid():
+            return None
+        row = self._rows[index.row()]
+        c = index.column()
+        key = _KEYS[c]
+        if role == Qt.ItemDataRole.DisplayRole:
+            return row.text[c]
+        if role == Qt.ItemDataRole.EditRole:
+            t = self.document.cell.targets[index.row()]
+            if key in ("x", "y"):
+                return format_number(getattr(t, key))
+            return row.text[c]
+        if role == SORT_ROLE:
+            return row.sort[c]
+        if role == ID_ROLE:
+            return row.id
+        if role == Qt.ItemDataRole.TextAlignmentRole and COLUMNS[c].numeric:
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        if key == "status":
+            if role == Qt.ItemDataRole.ForegroundRole:
+                return QBrush(QColor(status_style(row.status).colour).darker(130))
+            if role == Qt.ItemDataRole.FontRole and not row.feasible:
+                f = QFont()
+                f.setBold(True)
+                return f
+            if role == Qt.ItemDataRole.ToolTipRole:
+                return row.text[c]
+        return None
+
+    def flags(self, index: QModelIndex | QPersistentModelIndex) -> Qt.ItemFlag:
+        base = super().flags(index)
+        if index.isValid() and COLUMNS[index.column()].editable:
+            return base | Qt.ItemFlag.ItemIsEditable
+        return base
+
+    def setData(
+        self, index: QModelIndex | QPersistentModelIndex, value: Any, role: int = 2
+    ) -> bool:
+        if role != Qt.ItemDataRole.EditRole or not index.isValid():
+            return False
+        key = _KEYS[index.column()]
+        if not COLUMNS[index.column()].editable:
+            return False
+        cell = self.document.cell
+        target = cell.targets[index.row()]
+        try:
+            changed = target_with(cell, target, key, str(value))
+            new_cell = check_cell(replace_target(cell, changed))
+        except Invalid as exc:
+            self.refused.emit(f"✕ {target.id} {key}: {exc}")
+            return False
+        label = _EDIT_LABELS[key].format(id=target.id)
+        if key == "arm":
+            label = f"Assign {target.id} to {changed.arm}"
+        self.document.edit(label, new_cell)
+        return True
+
+
+class _ArmDelegate(QStyledItemDelegate):
+    """Arm column editor: a choice list of the cell's arm ids."""
+
+    def __init__(self, document: Document, parent: QWidget) -> None:
+        super().__init__(parent)
+        self.document = document
+
+    def createEditor(self, parent: QWidget, option: Any, index: QModelIndex) -> QWidget:
+        box = QComboBox(parent)
+        for a in self.document.cell.arms:
+            box.addItem(f"{a.id} — {a.name}", a.id)
+        return box
+
+    def setEditorData(self, editor: QWidget, index: QModelIndex) -> None:
+        assert isinstance(editor, QComboBox)
+        editor.setCurrentIndex(max(0, editor.findData(index.data(Qt.ItemDataRole.EditRole))))
+
+    def setModelData(self, editor: QWidget, model: Any, index: QModelIndex) -> None:
+        assert isinstance(editor, QComboBox)
+        model.setData(index, editor.currentData(), Qt.ItemDataRole.EditRole)
+
+
+class TargetTable(QTableView):
+    """Sortable view of the targets, its selection tied to ``document.selection``."""
+
+    def __init__(self, document: Document, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.document = document
+        self._guard = EchoGuard()
+        self.source = TargetTableModel(document, self)
+        self.proxy = QSortFilterProxyModel(self)
+        self.proxy.setSourceModel(self.source)
+        self.proxy.setSortRole(SORT_ROLE)
+        self.setModel(self.proxy)
+        self.setObjectName("target_table")
+        self.setSortingEnabled(True)
+        self.sortByColumn(-1, Qt.SortOrder.AscendingOrder)  # file order until a header is clicked
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
+        self.setEditTriggers(
+            QAbstractItemView.EditTrigger.DoubleClicked
+            | QAbstractItemView.EditTrigger.EditKeyPressed
+            | QAbstractItemView.EditTrigger.AnyKeyPressed
+        )
+        self.setAlternatingRowColors(True)
+        self.setWordWrap(False)
+        self.verticalHeader().setVisible(False)
+        self.verticalHeader().setDefaultSectionSize(self.fontMetrics().height() + 6)
+        header = self.horizontalHeader()
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        header.setStretchLastSection(False)
+        self.setItemDelegateForColumn(_KEYS.index("arm"), _ArmDelegate(document, self))
+        self.resizeColumnsToContents()
+
+        self.selectionModel().selectionChanged.connect(self._on_view_selection)
+        self.source.modelReset.connect(self._show_selection)
+        document.selection.changed.connect(lambda _ids: self._show_selection())
+
+    def selected_ids(self) -> list[str]:
+        """Target ids of the selected rows, in view order."""
+        rows = sorted(self.selectionModel().selectedRows(), key=lambda i: i.row())
+        return [self.proxy.mapToSource(i).data(ID_ROLE) for i in rows]
+
+    def _on_view_selection(self, *_args: Any) -> None:
+        if self._guard:
+            return
+        with self._guard:
+            self.document.selection.set(self.selected_ids())
+
+    def _show_selection(self) -> None:
+        if self._guard:
+            return
+        ids = [i for i in self.document.selection.ids if self.source.row_of(i) >= 0]
+        sel = QItemSelection()
+        for tid in ids:
+            src = self.source.index(self.source.row_of(tid), 0)
+            idx = self.proxy.mapFromSource(src)
+            sel.select(idx, idx)
+        flags = (
+            QItemSelectionModel.SelectionFlag.ClearAndSelect
+            | QItemSelectionModel.SelectionFlag.Rows
+        )
+        with self._guard:
+            self.selectionModel().select(sel, flags)
+            if ids:
+                first = self.proxy.mapFromSource(self.source.index(self.source.row_of(ids[0]), 0))
+                self.scrollTo(first)
