@@ -9,22 +9,51 @@ computes geometry itself. It changes the document only through
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass, field
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import Signal
-from PySide6.QtGui import QAction, QActionGroup
-from PySide6.QtWidgets import QHBoxLayout, QWidget
+from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, Signal
+from PySide6.QtGui import QAction, QActionGroup, QCursor, QPainterPath, QPen
+from PySide6.QtWidgets import QGraphicsPathItem, QHBoxLayout, QMenu, QWidget
 
 from app import style
 from app.document import Changes, Document
+from kinematics.cell import FIXTURE_KINDS, Arm, Cell
 from kinematics.evaluate import ArmEvaluation, evaluate_arm
-from kinematics.ik import Status
+from kinematics.fk import joint_points
+from kinematics.ik import ELBOWS, REASONS, Status
 
-from .items import ArmItem, FixtureItem, LabelsItem
-from .qtstyle import colour, cosmetic_pen, fixture_look
+from . import dialogs, edits
+from .items import (
+    ArmItem,
+    FixtureItem,
+    LabelsItem,
+    ScaleBar,
+    geometry_path,
+    polygon_path,
+    polylines_path,
+    translate_rotate,
+)
+from .legend import LegendEntry, LegendWidget
+from .picking import Hit, pick, pick_target
+from .qtstyle import ELBOW_COLOURS, OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
+from .snapping import (
+    Anchors,
+    SnapResult,
+    fixture_anchors,
+    may_move_vertex,
+    measure,
+    outline_problem,
+    rectangle_outline,
+    snap_angle,
+    snap_point,
+)
 
-__all__ = ["CellCanvas"]
+__all__ = ["CellCanvas", "OVERLAY_KEYS"]
+
+#: Overlay kinds, in drawing order (each has an action "overlay.<kind>").
+OVERLAY_KEYS = ("annulus", "positive", "negative", "both", "comfort")
 
 # z order of the layers (higher is drawn on top).
 Z_FIXTURE = 10
@@ -32,19 +61,70 @@ Z_OVERLAY = 20
 Z_GHOST = 30
 Z_ARM = 40
 Z_TARGET = 50
+Z_SELECT = 55
 Z_LABEL = 60
 Z_TOOL = 70
+
+PICK_PX = 8.0  # pick radius around points, screen pixels
+SNAP_PX = 10.0  # snap radius to fixture vertices and midpoints, screen pixels
+DRAG_PX = 3.0  # movement before a press becomes a drag
+ANGLE_STEP = 5.0  # heading snap step, degrees
+
+# Ghost roles: the chosen pose, the other configuration when it also works, and
+# the other configuration when it exists but breaks a limit or the elbow setting.
+GHOST_ROLES = ("chosen", "alternative", "blocked")
+_GHOST_PENS = {
+    "chosen": ("solid", 2.2, 0.9),
+    "alternative": ("dash", 1.4, 0.85),
+    "blocked": ("dot", 1.2, 0.55),
+}
+
+_UNITS_WORD = {"mm": "mm", "in": "in"}
+
+
+@dataclass
+class _Drag:
+    """A press on an item that becomes a drag once the pointer moves a few pixels."""
+
+    kind: str  # "base", "rotate", "handle", "target", "vertex", "fixture", "rect"
+    id: str
+    index: int
+    start: tuple[float, float]  # world point pressed
+    press_px: QPointF
+    cell0: Cell
+    ref: tuple[float, float] = (0.0, 0.0)  # point that snaps (base, target, vertex...)
+    active: bool = False
+    last: tuple | None = None
+    label: str = ""
+
+
+@dataclass
+class _Regions:
+    key: tuple
+    pose: tuple[float, float, float]
+    paths: dict[str, QPainterPath] = field(default_factory=dict)
+    version: int = 0
+
+
+def _arm_region_key(arm: Arm, tol: float) -> tuple:
+    return (arm.a1, arm.a2, tuple(arm.q1_limits), tuple(arm.q2_limits), arm.elbow, tol)
 
 
 class CellCanvas(QWidget):
     """Plan view of a cell: fixtures, arm bases, targets, ghost poses and overlays.
 
+    Parameters
+    ----------
+    document : Document
+        The document to show and edit.
+    parent : QWidget, optional
+
     Signals
     -------
     cursor_moved(float, float)
-        Mouse position in cell units.
+        Pointer position in cell units.
     hovered_target(str)
-        Id of the target under the mouse, '' for none.
+        Id of the target under the pointer, '' for none.
     status_message(str)
         A short message for the status bar.
     """
@@ -58,32 +138,59 @@ class CellCanvas(QWidget):
         self.document = document
         self._snap_pitch = 10.0
         self._evals: dict[str, ArmEvaluation] = {}
+        self._regions: dict[str, _Regions] = {}
+        self._overlay_items: dict[tuple[str, str], QGraphicsPathItem] = {}
+        self._overlay_version: dict[tuple[str, str], int] = {}
+        self._ghost_items: dict[tuple[str, int, str], QGraphicsPathItem] = {}
+        self._fixture_items: dict[str, FixtureItem] = {}
+        self._arm_items: dict[str, ArmItem] = {}
+        self._scatter_cache: dict[int, np.ndarray] = {}
+        self._names_key: tuple | None = None
+        self._names: dict[str, str] = {}
+        self._target_xy = np.zeros((0, 2))
+        self._target_ids: list[str] = []
+        self._hover = ""
+        self._drag: _Drag | None = None
+        self._swallow_until_release = False
+        self._empty_press: QPointF | None = None
+        self._right_press: QPointF | None = None
+        self._poly: list[tuple[float, float]] = []
+        self._rect_start: tuple[float, float] | None = None
+        self._measure: list[tuple[float, float]] = []
+        self._measure_fixed = False
+        # Dialog hooks, replaceable in tests (the real ones are modal).
+        self.ask_position = dialogs.ask_position
+        self.ask_name = dialogs.ask_name
 
         pg.setConfigOptions(antialias=True)
         self.plot = pg.PlotWidget(background=style.PAPER)
         self.plot.setMenuEnabled(False)
+        self.plot.hideButtons()
+        self.plot.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
         self.vb: pg.ViewBox = self.plot.getViewBox()
         self.vb.setAspectLocked(True, ratio=1.0)
         self.vb.disableAutoRange()
-        self.plot.showGrid(x=True, y=True, alpha=0.25)
+        self.plot.showGrid(x=True, y=True, alpha=0.22)
+        self._units = document.cell.units
         for name in ("bottom", "left"):
             ax = self.plot.getAxis(name)
             ax.enableAutoSIPrefix(False)
             ax.setPen(cosmetic_pen(style.INK, 1.0))
             ax.setTextPen(cosmetic_pen(style.INK, 1.0))
-        self.plot.hideButtons()
+        self._label_axes()
+        self.legend = LegendWidget()
 
         lay = QHBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
+        lay.setSpacing(0)
         lay.addWidget(self.plot, 1)
+        lay.addWidget(self.legend, 0)
 
-        self._fixture_items: dict[str, FixtureItem] = {}
-        self._arm_items: dict[str, ArmItem] = {}
         self._target_scatter: dict[int, pg.ScatterPlotItem] = {}
         for st in Status:
             ss = style.status_style(st)
             sc = pg.ScatterPlotItem(
-                size=11,
+                size=12 if st is Status.OK else 13,
                 symbol=ss.symbol,
                 pen=pg.mkPen(style.INK, width=1.0),
                 brush=pg.mkBrush(colour(ss.colour)),
@@ -91,29 +198,59 @@ class CellCanvas(QWidget):
             )
             self._add(sc, Z_TARGET)
             self._target_scatter[int(st)] = sc
+        self._select_scatter = pg.ScatterPlotItem(
+            size=24,
+            symbol="o",
+            pen=pg.mkPen(colour(style.PALETTE["harbour"], 0.9), width=3.0),
+            brush=pg.mkBrush(0, 0, 0, 0),
+            pxMode=True,
+        )
+        self._add(self._select_scatter, Z_SELECT)
         self._labels = LabelsItem()
         self._add(self._labels, Z_LABEL)
+        self._tool_item = QGraphicsPathItem()
+        self._tool_item.setPen(cosmetic_pen(style.INK, 1.5, "dash"))
+        self._add(self._tool_item, Z_TOOL)
+        self._measure_item = QGraphicsPathItem()
+        self._measure_item.setPen(cosmetic_pen(style.PALETTE["harbour"], 2.0))
+        self._add(self._measure_item, Z_TOOL)
+        self._measure_label = pg.TextItem(
+            "", color=style.INK, anchor=(0.5, 1.2), fill=pg.mkBrush(colour(style.PAPER, 0.85))
+        )
+        self._measure_label.setVisible(False)
+        self._add(self._measure_label, Z_TOOL)
+        self._snap_marker = pg.ScatterPlotItem(
+            size=14, pen=pg.mkPen(style.PALETTE["harbour"], width=2.0), brush=None, pxMode=True
+        )
+        self._add(self._snap_marker, Z_TOOL)
+        self.scale_bar = ScaleBar(self.vb, self._units)
 
         self._actions: dict[str, QAction] = {}
         self._build_actions()
 
+        self.plot.viewport().installEventFilter(self)
+        self.plot.viewport().setMouseTracking(True)
+        self.plot.installEventFilter(self)
+
         document.events.cell_changed.connect(self._on_cell_changed)
+        document.selection.changed.connect(self._on_selection)
         self._rebuild()
         self.zoom_to_fit()
 
     # ---------------------------------------------------------------- public API
 
     def actions(self) -> dict[str, QAction]:  # type: ignore[override]
-        """Checkable actions of the canvas by stable key (overlays, ghosts, snap, tools)."""
+        """Checkable actions by stable key: overlays, ghost mode, snapping and tools."""
         return dict(self._actions)
 
     def set_snap_pitch(self, pitch: float) -> None:
-        """Grid pitch for snapping, in cell units (must be positive)."""
-        if not (pitch > 0 and math.isfinite(pitch)):
+        """Grid pitch for snapping, in cell units (a positive number)."""
+        if not (isinstance(pitch, int | float) and math.isfinite(pitch) and pitch > 0):
             raise ValueError(f"snap pitch must be a positive number, got {pitch!r}")
         self._snap_pitch = float(pitch)
 
     def snap_pitch(self) -> float:
+        """Grid pitch for snapping, in cell units."""
         return self._snap_pitch
 
     def zoom_to_fit(self) -> None:
@@ -135,7 +272,7 @@ class CellCanvas(QWidget):
         if not xs:
             self.vb.setRange(xRange=(-500, 500), yRange=(-500, 500), padding=0.05)
             return
-        self.vb.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.06)
+        self.vb.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.05)
 
     def zoom_to(self, target_id: str) -> None:
         """Centre the view on a target, zooming in to about its arm's reach when far out."""
@@ -146,7 +283,7 @@ class CellCanvas(QWidget):
         (x0, x1), (y0, y1) = self.vb.viewRange()
         span = max(x1 - x0, y1 - y0)
         try:
-            span = min(span, 1.5 * cell.arm(t.arm).reach_max)
+            span = min(span, 1.2 * cell.arm(t.arm).reach_max)
         except KeyError:
             pass
         self.vb.setRange(
@@ -156,8 +293,64 @@ class CellCanvas(QWidget):
         )
 
     def evaluation(self, arm_id: str) -> ArmEvaluation:
-        """The canvas's current evaluation of one arm (re-computed per changed arm only)."""
+        """The canvas's current evaluation of one arm (re-computed for changed arms only)."""
         return self._evals[arm_id]
+
+    def world_to_viewport(self, x: float, y: float) -> QPoint:
+        """Viewport pixel of a world point (for tests and tools placing the pointer)."""
+        return self.plot.mapFromScene(self.vb.mapViewToScene(QPointF(x, y)))
+
+    def viewport_to_world(self, pos: QPointF | QPoint) -> tuple[float, float]:
+        """World point under a viewport pixel."""
+        p = pos.toPoint() if isinstance(pos, QPointF) else pos
+        v = self.vb.mapSceneToView(self.plot.mapToScene(p))
+        return float(v.x()), float(v.y())
+
+    def viewport(self) -> QWidget:
+        """The widget that receives the canvas's mouse events."""
+        return self.plot.viewport()
+
+    def overlay_items(self, key: str) -> list[QGraphicsPathItem]:
+        """Scene items currently drawn for one overlay kind (all arms)."""
+        return [it for (aid, k), it in self._overlay_items.items() if k == key]
+
+    def measurement(self) -> tuple[float, float] | None:
+        """Distance and angle (degrees) of the current measurement, None without one."""
+        if len(self._measure) == 2:
+            return measure(self._measure[0], self._measure[1])
+        return None
+
+    def delete_selection(self) -> None:
+        """Delete the selected targets and fixtures (one undo step)."""
+        cell = self.document.cell
+        ids = [
+            i
+            for i in self.document.selection.ids
+            if any(t.id == i for t in cell.targets) or any(f.id == i for f in cell.fixtures)
+        ]
+        if not ids:
+            self.status_message.emit("Nothing to delete: select targets or fixtures")
+            return
+        label = edits.delete_label(cell, ids)
+        self.document.selection.clear()
+        self.document.edit(label, edits.delete_items(cell, ids))
+
+    def cancel(self) -> None:
+        """Esc: cancel a drag in progress (restoring the cell) or the tool's pending input."""
+        if self._drag is not None:
+            was_active = self._drag.active
+            self._drag = None
+            self._snap_marker.setData([])
+            if was_active:
+                self.document.cancel_preview()
+                self._swallow_until_release = True
+                self.status_message.emit("Move cancelled")
+            return
+        if self._poly or self._rect_start or self._measure:
+            self._clear_tool_state()
+            self.status_message.emit("Cancelled")
+            return
+        self.document.selection.clear()
 
     # ---------------------------------------------------------------- actions
 
@@ -172,14 +365,17 @@ class CellCanvas(QWidget):
         return act
 
     def _build_actions(self) -> None:
-        for key, text, on in (
-            ("overlay.annulus", "Reach annulus", True),
-            ("overlay.positive", "Positive elbow region", False),
-            ("overlay.negative", "Negative elbow region", False),
-            ("overlay.both", "Both configurations region", False),
-            ("overlay.comfort", "Comfort region", False),
+        for key, text, on, tip in (
+            ("annulus", "Reach annulus", True, "Outer and inner reach circles, ignoring limits"),
+            ("positive", "Positive elbow region", False, "Points the positive elbow reaches"),
+            ("negative", "Negative elbow region", False, "Points the negative elbow reaches"),
+            ("both", "Both configurations", False, "Points reachable with either elbow"),
+            ("comfort", "Comfort region", False, "Reachable with room to spare at every joint"),
         ):
-            self._action(key, text, on).toggled.connect(lambda _on: self._refresh_overlays())
+            act = self._action(f"overlay.{key}", text, on)
+            act.setToolTip(tip)
+            act.toggled.connect(lambda _on: self._refresh_overlays())
+            act.toggled.connect(lambda _on: self._refresh_legend())
         ghosts = QActionGroup(self)
         ghosts.setExclusive(True)
         for key, text, on in (
@@ -188,19 +384,46 @@ class CellCanvas(QWidget):
             ("ghosts.none", "Ghost poses: none", False),
         ):
             self._action(key, text, on, ghosts).toggled.connect(lambda _on: self._refresh_ghosts())
-        self._action("snap.enabled", "Snap to grid and fixtures", True)
+        snap = self._action("snap.enabled", "Snap to grid and fixtures", True)
+        snap.setToolTip(
+            "Snap to the grid, fixture vertices and edge midpoints (hold Alt to suspend)"
+        )
         tools = QActionGroup(self)
         tools.setExclusive(True)
-        for key, text, on in (
-            ("tool.select", "Select and move", True),
-            ("tool.polygon", "Draw polygon fixture", False),
-            ("tool.rectangle", "Draw rectangle fixture", False),
-            ("tool.measure", "Measure", False),
-            ("tool.add_target", "Add target", False),
+        for key, text, on, cursor in (
+            ("tool.select", "Select and move", True, Qt.CursorShape.ArrowCursor),
+            ("tool.polygon", "Draw polygon fixture", False, Qt.CursorShape.CrossCursor),
+            ("tool.rectangle", "Draw rectangle fixture", False, Qt.CursorShape.CrossCursor),
+            ("tool.measure", "Measure", False, Qt.CursorShape.CrossCursor),
+            ("tool.add_target", "Add target", False, Qt.CursorShape.PointingHandCursor),
         ):
-            self._action(key, text, on, tools)
+            act = self._action(key, text, on, tools)
+            act.toggled.connect(lambda on, c=cursor, k=key: on and self._tool_changed(k, c))
+
+    def _tool(self) -> str:
+        for key in ("tool.select", "tool.polygon", "tool.rectangle", "tool.measure"):
+            if self._actions[key].isChecked():
+                return key.split(".", 1)[1]
+        return "add_target" if self._actions["tool.add_target"].isChecked() else "select"
+
+    def _tool_changed(self, key: str, cursor: Qt.CursorShape) -> None:
+        self._clear_tool_state()
+        self.plot.viewport().setCursor(QCursor(cursor))
+        hints = {
+            "tool.select": "Drag bases, targets, fixtures, vertices; Shift-drag a base to turn it",
+            "tool.polygon": "Click vertices; double-click or Enter finishes, Backspace undoes one",
+            "tool.rectangle": "Drag a rectangle to add a fixture",
+            "tool.measure": "Click two points to measure",
+            "tool.add_target": "Click to add a target",
+        }
+        self.status_message.emit(hints[key])
 
     # ---------------------------------------------------------------- drawing
+
+    def _label_axes(self) -> None:
+        u = _UNITS_WORD.get(self._units, self._units)
+        self.plot.setLabel("bottom", f"x ({u})")
+        self.plot.setLabel("left", f"y ({u})")
 
     def _add(self, item, z: float) -> None:
         self.vb.addItem(item, ignoreBounds=True)
@@ -212,11 +435,15 @@ class CellCanvas(QWidget):
     def _rebuild(self) -> None:
         """Recreate per-object items after a structural change (load, add, delete)."""
         cell = self.document.cell
+        if cell.units != self._units:
+            self._units = cell.units
+            self.scale_bar.units = cell.units
+            self._label_axes()
         for item in self._fixture_items.values():
             self._remove(item)
         self._fixture_items.clear()
         for f in cell.fixtures:
-            item = FixtureItem(fixture_look(f.kind))
+            item = FixtureItem(f.kind, fixture_look(f.kind))
             item.set_outline(f.outline)
             self._add(item, Z_FIXTURE)
             self._fixture_items[f.id] = item
@@ -232,20 +459,32 @@ class CellCanvas(QWidget):
         self._refresh_targets()
         self._refresh_overlays()
         self._refresh_ghosts()
+        self._on_selection(self.document.selection.ids)
+        self._refresh_legend()
+
+    def _base_radius(self, arm: Arm) -> float:
+        # Footprint: the first link's radius when given, else a tenth of the first link.
+        return float(arm.link_radii[0]) if arm.link_radii else 0.1 * arm.a1
 
     def _update_arm_item(self, arm_id: str) -> None:
         arm = self.document.cell.arm(arm_id)
-        radius = arm.link_radii[0] if arm.link_radii else 0.08 * arm.a1
-        self._arm_items[arm_id].set_arm(arm, radius, 0.35 * arm.a1)
+        self._arm_items[arm_id].set_arm(arm, self._base_radius(arm), 0.45 * arm.a1)
 
     def _on_cell_changed(self, changes: Changes) -> None:
         if changes.structure:
             self._rebuild()
             return
         cell = self.document.cell
+        kinds_changed = False
         for fid in changes.fixtures:
             f = next(f for f in cell.fixtures if f.id == fid)
-            self._fixture_items[fid].set_outline(f.outline)
+            item = self._fixture_items[fid]
+            if item.kind != f.kind:
+                item.set_look(f.kind, fixture_look(f.kind))
+                kinds_changed = True
+            item.set_outline(f.outline)
+        if kinds_changed:
+            self._refresh_legend()
         changed_arms = set(changes.arms)
         if changes.targets:
             by_id = {t.id: t for t in cell.targets}
@@ -253,52 +492,839 @@ class CellCanvas(QWidget):
                 t = by_id.get(tid)
                 if t is not None:
                     changed_arms.add(t.arm)
-            # A target reassigned to another arm leaves its old arm's list too.
+            # A target given to another arm leaves its old arm's list too.
             for aid, ev in self._evals.items():
-                if changes.targets & set(ev.target_ids):
+                if not changes.targets.isdisjoint(ev.target_ids):
                     changed_arms.add(aid)
         for aid in changed_arms:
             if aid in self._arm_items:
                 self._update_arm_item(aid)
-                arm = cell.arm(aid)
-                self._evals[aid] = evaluate_arm(arm, cell.targets_of(aid))
+                self._evals[aid] = evaluate_arm(cell.arm(aid), cell.targets_of(aid))
         if changed_arms or changes.targets:
             self._refresh_targets()
-            self._refresh_ghosts()
+            self._refresh_ghosts(changed_arms)
+            self._on_selection(self.document.selection.ids)
         if changes.arms:
-            self._refresh_overlays()
+            self._refresh_overlays(changes.arms)
+            if any(cell.arm(a).name != self._arm_items[a].name for a in changes.arms):
+                self._refresh_legend()
 
     def _refresh_targets(self) -> None:
         cell = self.document.cell
-        by_id = {t.id: t for t in cell.targets}
-        groups: dict[int, list[tuple[float, float]]] = {int(s): [] for s in Status}
-        xy: list[tuple[float, float]] = []
-        names: list[str] = []
+        key = tuple((t.id, t.name) for t in cell.targets)
+        if key != self._names_key:
+            self._names_key = key
+            self._names = dict(key)
+        xy_parts = []
+        st_parts = []
+        ids: list[str] = []
         reasons: list[str] = []
-        seen: set[str] = set()
         for ev in self._evals.values():
-            for i, tid in enumerate(ev.target_ids):
-                st = int(ev.status[i])
-                p = (float(ev.xy[i, 0]), float(ev.xy[i, 1]))
-                groups[st].append(p)
-                xy.append(p)
-                names.append(by_id[tid].name)
-                reasons.append(ev.reason(i))
-                seen.add(tid)
-        # Targets of no (existing) arm: drawn as out of reach with an explanation.
-        for t in cell.targets:
-            if t.id not in seen:
-                groups[int(Status.BEYOND_REACH)].append((t.x, t.y))
-                xy.append((t.x, t.y))
-                names.append(t.name)
-                reasons.append(f"no arm {t.arm!r}")
-        for st, pts in groups.items():
-            arr = np.array(pts, dtype=float).reshape(-1, 2)
-            self._target_scatter[st].setData(pos=arr)
-        self._labels.set_labels(np.array(xy, dtype=float).reshape(-1, 2), names, reasons)
+            xy_parts.append(ev.xy)
+            st_parts.append(np.asarray(ev.status, dtype=np.int64))
+            ids.extend(ev.target_ids)
+            reasons.extend(self._reason_texts(ev))
+        seen = set(ids)
+        orphans = [t for t in cell.targets if t.id not in seen]
+        if orphans:
+            xy_parts.append(np.array([(t.x, t.y) for t in orphans], dtype=float))
+            st_parts.append(np.full(len(orphans), int(Status.BEYOND_REACH), dtype=np.int64))
+            ids.extend(t.id for t in orphans)
+            reasons.extend(f"assigned to missing arm {t.arm!r}" for t in orphans)
+        xy = np.vstack(xy_parts) if xy_parts else np.zeros((0, 2))
+        status = np.concatenate(st_parts) if st_parts else np.zeros(0, dtype=np.int64)
+        self._target_xy = xy
+        self._target_ids = ids
+        self._target_status = status
+        for st, sc in self._target_scatter.items():
+            pos = xy[status == st]
+            old = self._scatter_cache.get(st)
+            if old is None or old.shape != pos.shape or not np.array_equal(old, pos):
+                sc.setData(pos=pos)
+                self._scatter_cache[st] = pos
+        self._labels.set_labels(xy, [self._names[i] for i in ids], reasons)
 
-    def _refresh_overlays(self) -> None:
-        pass  # filled in once regions are available
+    def _reason_texts(self, ev: ArmEvaluation) -> list[str]:
+        """Why each target fails, with the amount when the engine reports one."""
+        out = [""] * len(ev.target_ids)
+        bad = np.flatnonzero(~np.asarray(ev.feasible, dtype=bool))
+        if not len(bad):
+            return out
+        u = _UNITS_WORD.get(self._units, self._units)
+        ik = ev.ik
+        for i in bad:
+            st = Status(int(ev.status[i]))
+            text = REASONS[st]
+            if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
+                text = f"{text} by {abs(float(ik.reach_margin[i])):.4g} {u}"
+            elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT):
+                j = 0 if st is Status.Q1_LIMIT else 1
+                allowed = np.asarray(ik.allowed[i], dtype=bool)
+                margins = np.where(
+                    allowed, np.nan_to_num(ik.joint_margin_deg[i, :, j], nan=-1e9), -np.inf
+                )
+                m = float(np.max(margins))
+                if math.isfinite(m) and m > -1e8:
+                    text = f"{text}, {abs(m):.1f}° past"
+            elif st is Status.ELBOW_EXCLUDED:
+                text = f"only the {ev.arm.elbow} elbow is allowed"
+            out[int(i)] = f"{style.status_style(st).glyph} {text}"
+        return out
 
-    def _refresh_ghosts(self) -> None:
-        pass
+    # ------------------------------------------------------------ overlays
+
+    def _region_tol(self, arm: Arm) -> float:
+        # Outline tolerance: far below a pixel at any sensible zoom.
+        return max(arm.reach_max, 1e-9) * 2e-4
+
+    def _regions_for(self, arm: Arm) -> _Regions:
+        from kinematics.regions import arm_regions
+
+        tol = self._region_tol(arm)
+        key = _arm_region_key(arm, tol)
+        cache = self._regions.get(arm.id)
+        if cache is not None and cache.key == key:
+            return cache
+        regs = arm_regions(arm, tol)
+        version = (cache.version + 1) if cache is not None else 1
+        cache = _Regions(key, (arm.x, arm.y, arm.heading_deg), version=version)
+        for k in OVERLAY_KEYS:
+            cache.paths[k] = geometry_path(getattr(regs, k))
+        self._regions[arm.id] = cache
+        return cache
+
+    def _refresh_overlays(self, arm_ids=None) -> None:
+        """Add, update or remove overlay items; a base move only changes their transform."""
+        cell = self.document.cell
+        present = {a.id for a in cell.arms}
+        for k in [k for k in self._overlay_items if k[0] not in present]:
+            self._remove(self._overlay_items.pop(k))
+        for aid in [a for a in self._regions if a not in present]:
+            del self._regions[aid]
+        enabled = [k for k in OVERLAY_KEYS if self._actions[f"overlay.{k}"].isChecked()]
+        for arm in cell.arms:
+            if (
+                arm_ids is not None
+                and arm.id not in arm_ids
+                and all((arm.id, k) in self._overlay_items for k in enabled)
+                and not any(
+                    (arm.id, k) in self._overlay_items for k in OVERLAY_KEYS if k not in enabled
+                )
+            ):
+                continue
+            cache = self._regions_for(arm) if enabled else None
+            for order, k in enumerate(OVERLAY_KEYS):
+                ik = (arm.id, k)
+                item = self._overlay_items.get(ik)
+                if k not in enabled:
+                    if item is not None:
+                        self._remove(item)
+                        del self._overlay_items[ik]
+                    continue
+                assert cache is not None
+                if item is None:
+                    look = OVERLAY_LOOKS[k]
+                    item = QGraphicsPathItem()
+                    item.setPen(look.pen)
+                    item.setBrush(look.brush)
+                    item.setData(0, f"overlay.{k}:{arm.id}")
+                    self._add(item, Z_OVERLAY + order * 0.1)
+                    self._overlay_items[ik] = item
+                    self._overlay_version[ik] = -1
+                if self._overlay_version[ik] != cache.version:
+                    item.setPath(cache.paths[k])
+                    self._overlay_version[ik] = cache.version
+                item.setTransform(translate_rotate(*cache.pose, arm.x, arm.y, arm.heading_deg))
+
+    # --------------------------------------------------------------- ghosts
+
+    def _ghost_mode(self) -> str:
+        for m in ("all", "selected", "none"):
+            if self._actions[f"ghosts.{m}"].isChecked():
+                return m
+        return "all"
+
+    def _ghost_item(self, aid: str, c: int, role: str) -> QGraphicsPathItem:
+        key = (aid, c, role)
+        item = self._ghost_items.get(key)
+        if item is None:
+            dash, width, alpha = _GHOST_PENS[role]
+            item = QGraphicsPathItem()
+            pen = cosmetic_pen(ELBOW_COLOURS[ELBOWS[c]], width, dash, alpha)
+            pen.setCapStyle(Qt.PenCapStyle.RoundCap)
+            item.setPen(pen)
+            item.setData(0, f"ghost.{role}.{ELBOWS[c]}:{aid}")
+            self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0))
+            self._ghost_items[key] = item
+        return item
+
+    def _refresh_ghosts(self, arm_ids=None) -> None:
+        cell = self.document.cell
+        present = {a.id for a in cell.arms}
+        for k in [k for k in self._ghost_items if k[0] not in present]:
+            self._remove(self._ghost_items.pop(k))
+        mode = self._ghost_mode()
+        sel = set(self.document.selection.ids)
+        for arm in cell.arms:
+            if arm_ids is not None and arm.id not in arm_ids:
+                continue
+            ev = self._evals[arm.id]
+            n = len(ev.target_ids)
+            if mode == "none" or n == 0:
+                show = np.zeros(n, dtype=bool)
+            elif mode == "selected":
+                whole = arm.id in sel
+                show = np.array([whole or t in sel for t in ev.target_ids], dtype=bool)
+            else:
+                show = np.ones(n, dtype=bool)
+            ik = ev.ik
+            feasible = np.asarray(ev.feasible, dtype=bool) & show
+            chosen = np.asarray(ev.chosen)
+            ok = np.asarray(ik.ok, dtype=bool)
+            allowed = np.asarray(ik.allowed, dtype=bool)
+            single = np.asarray(ik.singular, dtype=bool)
+            q = ik.q_deg
+            for c in (0, 1):
+                masks = {
+                    "chosen": feasible & (chosen == c),
+                    "alternative": feasible & (chosen != c) & ok[:, c] & ~single,
+                    # Only configurations the elbow setting allows: an excluded one is no option.
+                    "blocked": feasible & (chosen != c) & allowed[:, c] & ~ok[:, c] & ~single,
+                }
+                need = np.zeros(n, dtype=bool)
+                for m in masks.values():
+                    need |= m
+                pts = np.zeros((n, 3, 2))
+                if need.any():
+                    b, e, t = joint_points(
+                        arm.a1, arm.a2, q[need, c, 0], q[need, c, 1], arm.x, arm.y, arm.heading_deg
+                    )
+                    pts[need] = np.stack([b, e, t], axis=1)
+                for role, m in masks.items():
+                    item = self._ghost_item(arm.id, c, role)
+                    item.setPath(polylines_path(pts[m]) if m.any() else QPainterPath())
+
+    # ------------------------------------------------------------ selection
+
+    def _on_selection(self, ids) -> None:
+        sel = set(ids)
+        for fid, item in self._fixture_items.items():
+            item.set_selected(fid in sel)
+        for aid, item in self._arm_items.items():
+            item.set_selected(aid in sel)
+        if self._target_ids:
+            mask = np.array([t in sel for t in self._target_ids], dtype=bool)
+            self._select_scatter.setData(pos=self._target_xy[mask])
+        else:
+            self._select_scatter.setData(pos=np.zeros((0, 2)))
+        if self._ghost_mode() == "selected":
+            self._refresh_ghosts()
+
+    # --------------------------------------------------------------- legend
+
+    def _refresh_legend(self) -> None:
+        cell = self.document.cell
+        e: list[LegendEntry] = [LegendEntry("header", "Targets (marker shape = status)")]
+        for st, ss in style.STATUS_STYLES.items():
+            text = "reachable" if st is Status.OK else f"fails: {ss.word}"
+            e.append(LegendEntry("symbol", text, symbol=ss.symbol, colour=ss.colour))
+        e.append(LegendEntry("header", "Ghost poses (links base-elbow-tool)"))
+        for name in ELBOWS:
+            for role, words in (
+                ("chosen", "chosen"),
+                ("alternative", "other, also works"),
+                ("blocked", "other, past a limit"),
+            ):
+                dash, width, alpha = _GHOST_PENS[role]
+                pen = QPen(colour(ELBOW_COLOURS[name], alpha), width)
+                pen.setStyle(cosmetic_pen(ELBOW_COLOURS[name], 1, dash).style())
+                e.append(LegendEntry("line", f"{name} elbow, {words}", pen=pen))
+        e.append(LegendEntry("header", "Arm bases"))
+        for i, a in enumerate(cell.arms):
+            e.append(LegendEntry("base", f"{a.name} (drag ○ to turn)", colour=style.arm_colour(i)))
+        shown = [k for k in OVERLAY_KEYS if self._actions[f"overlay.{k}"].isChecked()]
+        if shown:
+            e.append(LegendEntry("header", "Regions"))
+            for k in shown:
+                look = OVERLAY_LOOKS[k]
+                e.append(LegendEntry("area", look.legend, pen=QPen(look.pen), brush=look.brush))
+        kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
+        if kinds:
+            e.append(LegendEntry("header", "Fixtures"))
+            for kind in kinds:
+                look = fixture_look(kind)
+                pen = QPen(look.pen)
+                e.append(
+                    LegendEntry(
+                        "area", look.legend, pen=pen, brush=look.brush, under=look.base_brush
+                    )
+                )
+        self.legend.set_entries(e)
+
+    # ---------------------------------------------------------- interaction
+
+    def _px(self) -> float:
+        """World units per screen pixel."""
+        w, h = self.vb.viewPixelSize()
+        return float(max(abs(w), abs(h))) or 1.0
+
+    def _snap_enabled(self, modifiers) -> bool:
+        suspend = modifiers & (
+            Qt.KeyboardModifier.AltModifier | Qt.KeyboardModifier.ControlModifier
+        )
+        return self._actions["snap.enabled"].isChecked() and not bool(suspend)
+
+    def _snap(self, x: float, y: float, modifiers, exclude: str | None = None) -> SnapResult:
+        enabled = self._snap_enabled(modifiers)
+        anchors = (
+            fixture_anchors(self.document.cell.fixtures, exclude) if enabled else Anchors.empty()
+        )
+        res = snap_point(
+            x,
+            y,
+            enabled=enabled,
+            pitch=self._snap_pitch,
+            anchors=anchors,
+            radius=SNAP_PX * self._px(),
+        )
+        symbol = {"vertex": "s", "midpoint": "t", "grid": "+"}.get(res.kind)
+        self._snap_marker.setData(
+            [res.x], [res.y], symbol=symbol
+        ) if symbol else self._snap_marker.setData([])
+        return res
+
+    def _handles(self) -> dict[str, tuple[float, float]]:
+        return {aid: item.handle_point() for aid, item in self._arm_items.items()}
+
+    def _pick(self, x: float, y: float) -> Hit | None:
+        cell = self.document.cell
+        radii = {a.id: self._base_radius(a) for a in cell.arms}
+        return pick(cell, x, y, PICK_PX * self._px(), handles=self._handles(), base_radii=radii)
+
+    def eventFilter(self, obj: QObject, ev: QEvent) -> bool:  # noqa: N802 (Qt name)
+        t = ev.type()
+        if obj is self.plot.viewport():
+            if t == QEvent.Type.MouseButtonPress:
+                return self._on_press(ev)
+            if t == QEvent.Type.MouseMove:
+                return self._on_move(ev)
+            if t == QEvent.Type.MouseButtonRelease:
+                return self._on_release(ev)
+            if t == QEvent.Type.MouseButtonDblClick:
+                return self._on_double(ev)
+            if t == QEvent.Type.ContextMenu:
+                return True  # our own menu opens on right-button release
+            if t == QEvent.Type.Leave:
+                self._set_hover("")
+        elif obj is self.plot and t in (QEvent.Type.KeyPress, QEvent.Type.ShortcutOverride):
+            if self._handles_key(ev):
+                if t == QEvent.Type.ShortcutOverride:
+                    ev.accept()
+                    return True
+                return self._on_key(ev)
+        return False
+
+    def _handles_key(self, ev) -> bool:
+        k = ev.key()
+        if k == Qt.Key.Key_Escape:
+            return True
+        if k in (Qt.Key.Key_Return, Qt.Key.Key_Enter, Qt.Key.Key_Backspace):
+            return (
+                bool(self._poly) or k == Qt.Key.Key_Backspace and bool(self.document.selection.ids)
+            )
+        if k == Qt.Key.Key_Delete:
+            return True
+        return False
+
+    def _on_key(self, ev) -> bool:
+        k = ev.key()
+        if k == Qt.Key.Key_Escape:
+            self.cancel()
+        elif k in (Qt.Key.Key_Return, Qt.Key.Key_Enter):
+            self._finish_polygon()
+        elif k == Qt.Key.Key_Backspace and self._poly:
+            self._poly.pop()
+            self._update_tool_item(None)
+        elif k in (Qt.Key.Key_Delete, Qt.Key.Key_Backspace):
+            self.delete_selection()
+        return True
+
+    def _on_press(self, ev) -> bool:
+        self.plot.setFocus(Qt.FocusReason.MouseFocusReason)
+        pos = ev.position()
+        x, y = self.viewport_to_world(pos)
+        if ev.button() == Qt.MouseButton.RightButton:
+            self._right_press = QPointF(pos)
+            return False
+        if ev.button() != Qt.MouseButton.LeftButton:
+            return False
+        tool = self._tool()
+        mods = ev.modifiers()
+        if tool == "select":
+            hit = self._pick(x, y)
+            if hit is None:
+                self._empty_press = QPointF(pos)
+                return False  # pan the view
+            self._select_hit(hit, mods)
+            self._begin_drag(hit, x, y, pos, mods)
+            return True
+        s = self._snap(x, y, mods)
+        if tool == "polygon":
+            self._poly.append((s.x, s.y))
+            self._update_tool_item((s.x, s.y))
+        elif tool == "rectangle":
+            self._rect_start = (s.x, s.y)
+            self._drag = _Drag("rect", "", -1, (s.x, s.y), QPointF(pos), self.document.cell)
+        elif tool == "measure":
+            if len(self._measure) != 1 or self._measure_fixed:
+                self._measure = [(s.x, s.y)]
+                self._measure_fixed = False
+            else:
+                self._measure = [self._measure[0], (s.x, s.y)]
+                self._measure_fixed = True
+            self._update_measure()
+        elif tool == "add_target":
+            self._add_target(s.x, s.y)
+        return True
+
+    def _select_hit(self, hit: Hit, mods) -> None:
+        sel = self.document.selection
+        iid = hit.id
+        if mods & (Qt.KeyboardModifier.ControlModifier | Qt.KeyboardModifier.MetaModifier):
+            ids = list(sel.ids)
+            if iid in ids:
+                ids.remove(iid)
+            else:
+                ids.append(iid)
+            sel.set(ids)
+        elif iid not in sel.ids:
+            sel.set((iid,))
+
+    def _begin_drag(self, hit: Hit, x: float, y: float, pos: QPointF, mods) -> None:
+        cell = self.document.cell
+        kind = hit.kind
+        if kind == "base" and mods & Qt.KeyboardModifier.ShiftModifier:
+            kind = "rotate"
+        d = _Drag(kind, hit.id, hit.index, (x, y), QPointF(pos), cell)
+        if kind in ("base", "rotate", "handle"):
+            arm = cell.arm(hit.id)
+            d.ref = (arm.x, arm.y)
+            d.label = f"Move base of {arm.name}" if kind == "base" else f"Rotate {arm.name}"
+        elif kind == "target":
+            t = next(t for t in cell.targets if t.id == hit.id)
+            d.ref = (t.x, t.y)
+            d.label = f"Move target {t.name}"
+        elif kind == "vertex":
+            f = next(f for f in cell.fixtures if f.id == hit.id)
+            d.ref = tuple(f.outline[hit.index])
+            d.label = f"Move vertex of {f.name}"
+        elif kind == "fixture":
+            f = next(f for f in cell.fixtures if f.id == hit.id)
+            xy = np.asarray(f.outline, dtype=float)
+            i = int(np.argmin(np.hypot(xy[:, 0] - x, xy[:, 1] - y)))
+            d.ref = (float(xy[i, 0]), float(xy[i, 1]))  # nearest vertex snaps
+            d.label = f"Move fixture {f.name}"
+        self._drag = d
+
+    def _on_move(self, ev) -> bool:
+        pos = ev.position()
+        x, y = self.viewport_to_world(pos)
+        self.cursor_moved.emit(x, y)
+        if self._swallow_until_release:
+            return True
+        d = self._drag
+        mods = ev.modifiers()
+        if d is not None:
+            if not d.active:
+                if (pos - d.press_px).manhattanLength() < DRAG_PX:
+                    return True
+                d.active = True
+            if d.kind == "rect":
+                s = self._snap(x, y, mods)
+                self._update_tool_item((s.x, s.y))
+            else:
+                self._drag_step(d, x, y, mods)
+            return True
+        tool = self._tool()
+        if tool in ("polygon", "measure", "rectangle", "add_target"):
+            s = self._snap(x, y, mods)
+            if tool == "polygon" and self._poly:
+                self._update_tool_item((s.x, s.y))
+            elif tool == "measure" and len(self._measure) == 1 and not self._measure_fixed:
+                self._update_measure((s.x, s.y))
+        if not (ev.buttons() & Qt.MouseButton.LeftButton):
+            self._update_hover(x, y)
+        return False
+
+    def _drag_step(self, d: _Drag, x: float, y: float, mods) -> None:
+        cell0 = d.cell0
+        dx, dy = x - d.start[0], y - d.start[1]
+        new: Cell | None = None
+        msg = ""
+        if d.kind in ("rotate", "handle"):
+            ax, ay = d.ref
+            ang = math.degrees(math.atan2(y - ay, x - ax))
+            if d.kind == "rotate":
+                a0 = math.degrees(math.atan2(d.start[1] - ay, d.start[0] - ax))
+                ang = cell0.arm(d.id).heading_deg + (ang - a0)
+            h = snap_angle(ang, enabled=self._snap_enabled(mods), step=ANGLE_STEP)
+            key = ("h", h)
+            if key != d.last:
+                new = edits.set_heading(cell0, d.id, h)
+                msg = f"{cell0.arm(d.id).name}: heading {h:.1f}°"
+            d.last = key
+        else:
+            exclude = d.id if d.kind in ("vertex", "fixture") else None
+            s = self._snap(d.ref[0] + dx, d.ref[1] + dy, mods, exclude)
+            key = (s.x, s.y)
+            if key == d.last:
+                return
+            d.last = key
+            where = f"({self._fmt(s.x)}, {self._fmt(s.y)})"
+            if d.kind == "base":
+                new = edits.move_base(cell0, d.id, s.x, s.y)
+                msg = f"Base of {cell0.arm(d.id).name} at {where}"
+            elif d.kind == "target":
+                new = edits.move_target(cell0, d.id, s.x, s.y)
+                msg = f"{d.label[len('Move ') :]} at {where}"
+            elif d.kind == "vertex":
+                f = next(f for f in cell0.fixtures if f.id == d.id)
+                if not may_move_vertex(f.outline, d.index, (s.x, s.y)):
+                    self.status_message.emit(f"{f.name}: the outline would cross itself")
+                    return
+                new = edits.move_vertex(cell0, d.id, d.index, s.x, s.y)
+                msg = f"Vertex {d.index + 1} of {f.name} at {where}"
+            elif d.kind == "fixture":
+                f = next(f for f in cell0.fixtures if f.id == d.id)
+                new = edits.translate_fixture(cell0, f, s.x - d.ref[0], s.y - d.ref[1])
+                msg = (
+                    f"{f.name} moved by ({self._fmt(s.x - d.ref[0])}, {self._fmt(s.y - d.ref[1])})"
+                )
+        if new is not None:
+            self.document.preview(new)
+            self.status_message.emit(f"{msg} — {self._reach_summary()}")
+
+    def _reach_summary(self) -> str:
+        total = sum(len(ev.target_ids) for ev in self._evals.values())
+        ok = sum(int(np.count_nonzero(ev.feasible)) for ev in self._evals.values())
+        return f"{ok} of {total} targets reachable"
+
+    def _fmt(self, v: float) -> str:
+        return f"{v:.2f}" if self._units == "in" else f"{v:.1f}"
+
+    def _on_release(self, ev) -> bool:
+        pos = ev.position()
+        if ev.button() == Qt.MouseButton.RightButton:
+            start, self._right_press = self._right_press, None
+            if start is not None and (pos - start).manhattanLength() < DRAG_PX:
+                x, y = self.viewport_to_world(pos)
+                menu = self.context_menu_at(x, y)
+                menu.popup(self.plot.viewport().mapToGlobal(pos.toPoint()))
+            return False
+        if ev.button() != Qt.MouseButton.LeftButton:
+            return False
+        if self._swallow_until_release:
+            self._swallow_until_release = False
+            return True
+        d = self._drag
+        if d is not None:
+            self._drag = None
+            self._snap_marker.setData([])
+            if d.kind == "rect":
+                x, y = self.viewport_to_world(pos)
+                s = self._snap(x, y, ev.modifiers())
+                self._snap_marker.setData([])
+                self._finish_rectangle(d.start, (s.x, s.y), d.active)
+            elif d.active:
+                self.document.commit_preview(d.label)
+                self.status_message.emit(f"{d.label} — {self._reach_summary()}")
+            return True
+        if self._empty_press is not None:
+            start, self._empty_press = self._empty_press, None
+            if (pos - start).manhattanLength() < DRAG_PX and not (
+                ev.modifiers() & Qt.KeyboardModifier.ControlModifier
+            ):
+                self.document.selection.clear()
+            return False
+        return self._tool() != "select"
+
+    def _on_double(self, ev) -> bool:
+        if ev.button() != Qt.MouseButton.LeftButton:
+            return False
+        tool = self._tool()
+        if tool == "polygon":
+            self._finish_polygon()
+            return True
+        if tool == "select":
+            x, y = self.viewport_to_world(ev.position())
+            hit = self._pick(x, y)
+            if hit is not None and hit.kind == "target":
+                self.zoom_to(hit.id)
+            return True
+        return True
+
+    # ----------------------------------------------------------------- hover
+
+    def _update_hover(self, x: float, y: float) -> None:
+        tid = pick_target(self.document.cell, x, y, PICK_PX * self._px())
+        self._set_hover(tid)
+        if self._tool() == "select":
+            hit = tid or self._pick(x, y)
+            shape = Qt.CursorShape.OpenHandCursor if hit else Qt.CursorShape.ArrowCursor
+            if self.plot.viewport().cursor().shape() != shape:
+                self.plot.viewport().setCursor(QCursor(shape))
+
+    def _set_hover(self, tid: str) -> None:
+        if tid == self._hover:
+            return
+        self._hover = tid
+        self.plot.viewport().setToolTip(self.target_tooltip(tid) if tid else "")
+        self.hovered_target.emit(tid)
+
+    def target_tooltip(self, target_id: str) -> str:
+        """Status text of one target: name, verdict and reason, configuration and margins."""
+        cell = self.document.cell
+        t = next((t for t in cell.targets if t.id == target_id), None)
+        if t is None:
+            return ""
+        try:
+            ev = self._evals[t.arm]
+            i = ev.index(t.id)
+        except (KeyError, ValueError):
+            return f"{t.name}: assigned to missing arm {t.arm!r}"
+        st = Status(int(ev.status[i]))
+        u = _UNITS_WORD.get(self._units, self._units)
+        lines = [f"{t.name} ({ev.arm.name}) at ({self._fmt(t.x)}, {self._fmt(t.y)}) {u}"]
+        lines.append(style.status_text(st))
+        if st is not Status.OK:
+            reason = self._reason_texts(ev)[i]
+            if reason:
+                lines[-1] = f"{style.status_style(st).glyph} FAIL: {reason[2:]}"
+        ik = ev.ik
+        for c, name in enumerate(ELBOWS):
+            q = ik.q_deg[i, c]
+            if not np.all(np.isfinite(q)):
+                continue
+            mark = (
+                "chosen"
+                if int(ev.chosen[i]) == c
+                else ("ok" if bool(ik.ok[i, c]) else "not usable")
+            )
+            lines.append(
+                f"{name} elbow: q1 {q[0]:.1f}°, q2 {q[1]:.1f}° "
+                f"(margin {float(ik.limit_margin_deg[i, c]):.1f}°) — {mark}"
+            )
+        lines.append(f"reach margin {float(ik.reach_margin[i]):.4g} {u}")
+        return "\n".join(lines)
+
+    # --------------------------------------------------------------- tools
+
+    def _clear_tool_state(self) -> None:
+        self._poly = []
+        self._rect_start = None
+        if self._drag is not None and self._drag.kind == "rect":
+            self._drag = None
+        self._measure = []
+        self._measure_fixed = False
+        self._tool_item.setPath(QPainterPath())
+        self._measure_item.setPath(QPainterPath())
+        self._measure_label.setVisible(False)
+        self._snap_marker.setData([])
+
+    def _update_tool_item(self, cursor: tuple[float, float] | None) -> None:
+        tool = self._tool()
+        path = QPainterPath()
+        if tool == "polygon" and self._poly:
+            pts = self._poly + ([cursor] if cursor is not None else [])
+            path.moveTo(*pts[0])
+            for p in pts[1:]:
+                path.lineTo(*p)
+            if len(pts) >= 3:
+                path.lineTo(*pts[0])
+        elif tool == "rectangle" and self._rect_start is not None and cursor is not None:
+            path = polygon_path(rectangle_outline(self._rect_start, cursor))
+        self._tool_item.setPath(path)
+
+    def _update_measure(self, cursor: tuple[float, float] | None = None) -> None:
+        pts = list(self._measure)
+        if cursor is not None and len(pts) == 1:
+            pts.append(cursor)
+        path = QPainterPath()
+        if len(pts) == 2:
+            path.moveTo(*pts[0])
+            path.lineTo(*pts[1])
+            dist, ang = measure(pts[0], pts[1])
+            u = _UNITS_WORD.get(self._units, self._units)
+            text = f"{self._fmt(dist)} {u} at {ang:.1f}°"
+            self._measure_label.setText(text)
+            self._measure_label.setPos((pts[0][0] + pts[1][0]) / 2, (pts[0][1] + pts[1][1]) / 2)
+            self._measure_label.setVisible(True)
+            self.status_message.emit(f"Distance {text}")
+        elif pts:
+            path.addEllipse(QPointF(*pts[0]), 2 * self._px(), 2 * self._px())
+            self._measure_label.setVisible(False)
+        self._measure_item.setPath(path)
+
+    def _finish_polygon(self) -> None:
+        pts = list(self._poly)
+        # A double-click adds its first click as a vertex; drop an exact repeat.
+        while len(pts) >= 2 and pts[-1] == pts[-2]:
+            pts.pop()
+        problem = outline_problem(pts)
+        if problem:
+            self.status_message.emit(f"Cannot add the fixture: {problem}")
+            return
+        cell, f = edits.add_fixture(self.document.cell, pts)
+        self._clear_tool_state()
+        self.document.edit(f"Add fixture {f.name}", cell)
+        self.document.selection.set((f.id,))
+
+    def _finish_rectangle(self, p0, p1, moved: bool) -> None:
+        self._rect_start = None
+        self._tool_item.setPath(QPainterPath())
+        outline = rectangle_outline(p0, p1)
+        problem = outline_problem(outline) if moved else "drag to give it a size"
+        if problem:
+            self.status_message.emit(f"Cannot add the fixture: {problem}")
+            return
+        cell, f = edits.add_fixture(self.document.cell, outline)
+        self.document.edit(f"Add fixture {f.name}", cell)
+        self.document.selection.set((f.id,))
+
+    def _arm_for_new_target(self, x: float, y: float) -> str | None:
+        cell = self.document.cell
+        if not cell.arms:
+            return None
+        sel = self.document.selection.ids
+        for i in sel:
+            if any(a.id == i for a in cell.arms):
+                return i
+            t = next((t for t in cell.targets if t.id == i), None)
+            if t is not None and any(a.id == t.arm for a in cell.arms):
+                return t.arm
+
+        # Otherwise the arm whose base is nearest, preferring arms that reach the point.
+        def score(a: Arm) -> tuple[bool, float]:
+            r = math.hypot(x - a.x, y - a.y)
+            return (not (a.reach_min <= r <= a.reach_max), r)
+
+        return min(cell.arms, key=score).id
+
+    def _add_target(self, x: float, y: float) -> None:
+        aid = self._arm_for_new_target(x, y)
+        if aid is None:
+            self.status_message.emit("Cannot add a target: the cell has no arm")
+            return
+        cell, t = edits.add_target(self.document.cell, x, y, aid)
+        self.document.edit(f"Add target {t.name}", cell)
+        self.document.selection.set((t.id,))
+
+    # ---------------------------------------------------------- context menu
+
+    def context_menu_at(self, x: float, y: float) -> QMenu:
+        """The context menu for the item at world point (x, y) (or the empty canvas)."""
+        cell = self.document.cell
+        hit = self._pick(x, y)
+        menu = QMenu(self)
+        if hit is not None:
+            self._select_hit(hit, Qt.KeyboardModifier.NoModifier)
+        if hit is None:
+            menu.addAction("Add target here", lambda: self._add_target(x, y))
+            menu.addAction("Zoom to fit", self.zoom_to_fit)
+        elif hit.kind in ("base", "handle"):
+            arm = cell.arm(hit.id)
+            menu.addAction("Set position…", lambda: self._set_arm_position(arm.id))
+            menu.addAction("Rename…", lambda: self._rename(arm.id, "arm"))
+        elif hit.kind == "target":
+            t = next(t for t in cell.targets if t.id == hit.id)
+            menu.addAction("Set position…", lambda: self._set_target_position(t.id))
+            menu.addAction("Rename…", lambda: self._rename(t.id, "target"))
+            menu.addAction("Zoom to target", lambda: self.zoom_to(t.id))
+            menu.addSeparator()
+            menu.addAction(f"Delete target {t.name}", lambda: self._delete([t.id]))
+        else:
+            f = next(f for f in cell.fixtures if f.id == hit.id)
+            if hit.kind == "vertex":
+                i = hit.index
+                menu.addAction("Set vertex position…", lambda: self._set_vertex(f.id, i))
+                act = menu.addAction("Delete vertex", lambda: self._delete_vertex(f.id, i))
+                act.setEnabled(len(f.outline) > 3)
+                menu.addSeparator()
+            menu.addAction("Rename…", lambda: self._rename(f.id, "fixture"))
+            kinds = menu.addMenu("Kind")
+            for kind in FIXTURE_KINDS:
+                a = kinds.addAction(kind, lambda k=kind: self._set_kind(f.id, k))
+                a.setCheckable(True)
+                a.setChecked(kind == f.kind)
+            menu.addSeparator()
+            menu.addAction(f"Delete fixture {f.name}", lambda: self._delete([f.id]))
+        return menu
+
+    def _delete(self, ids: list[str]) -> None:
+        cell = self.document.cell
+        self.document.selection.set([i for i in self.document.selection.ids if i not in ids])
+        self.document.edit(edits.delete_label(cell, ids), edits.delete_items(cell, ids))
+
+    def _rename(self, item_id: str, what: str) -> None:
+        cell = self.document.cell
+        items = {x.id: x for x in (*cell.arms, *cell.fixtures, *cell.targets)}
+        old = items[item_id].name
+        name = self.ask_name(self, f"Rename {what}", old)
+        if name and name != old:
+            self.document.edit(f"Rename {what} {old} to {name}", edits.rename(cell, item_id, name))
+
+    def _set_kind(self, fixture_id: str, kind: str) -> None:
+        cell = self.document.cell
+        f = next(f for f in cell.fixtures if f.id == fixture_id)
+        if f.kind != kind:
+            self.document.edit(
+                f"Make {f.name} a {kind}", edits.set_fixture_kind(cell, fixture_id, kind)
+            )
+
+    def _set_arm_position(self, arm_id: str) -> None:
+        cell = self.document.cell
+        arm = cell.arm(arm_id)
+        got = self.ask_position(
+            self, f"Position of {arm.name}", arm.x, arm.y, cell.units, arm.heading_deg
+        )
+        if got is None:
+            return
+        x, y, h = got
+        new = edits.move_base(cell, arm_id, x, y)
+        if h is not None:
+            new = edits.set_heading(new, arm_id, h)
+        self.document.edit(f"Set position of {arm.name}", new)
+
+    def _set_target_position(self, target_id: str) -> None:
+        cell = self.document.cell
+        t = next(t for t in cell.targets if t.id == target_id)
+        got = self.ask_position(self, f"Position of {t.name}", t.x, t.y, cell.units, None)
+        if got is not None:
+            self.document.edit(
+                f"Set position of target {t.name}", edits.move_target(cell, t.id, got[0], got[1])
+            )
+
+    def _set_vertex(self, fixture_id: str, index: int) -> None:
+        cell = self.document.cell
+        f = next(f for f in cell.fixtures if f.id == fixture_id)
+        vx, vy = f.outline[index]
+        got = self.ask_position(self, f"Vertex {index + 1} of {f.name}", vx, vy, cell.units, None)
+        if got is None:
+            return
+        if not may_move_vertex(f.outline, index, (got[0], got[1])):
+            self.status_message.emit(f"{f.name}: the outline would cross itself")
+            return
+        self.document.edit(
+            f"Move vertex of {f.name}", edits.move_vertex(cell, f.id, index, got[0], got[1])
+        )
+
+    def _delete_vertex(self, fixture_id: str, index: int) -> None:
+        cell = self.document.cell
+        f = next(f for f in cell.fixtures if f.id == fixture_id)
+        pts = [p for i, p in enumerate(f.outline) if i != index]
+        problem = outline_problem(pts)
+        if problem:
+            self.status_message.emit(f"Cannot delete the vertex: {problem}")
+            return
+        new = edits.set_outline(cell, f.id, pts)
+        self.document.edit(f"Delete vertex of {f.name}", new)

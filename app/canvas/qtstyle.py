@@ -86,7 +86,7 @@ _KIND_LINES = {
 # Conveyors get straight stripes (horizontal) rather than diagonal: no direction is implied.
 _KIND_PATTERNS = {"conveyor": "horizontal", "keep-out": "hatch", "guard": "cross"}
 _KIND_WORDS = {
-    "keep-out": "keep-out zone (hatched, dashed edge)",
+    "keep-out": "keep-out (hatched, dashed edge)",
     "guard": "guard (thick edge)",
     "column": "column (solid)",
     "conveyor": "conveyor (striped)",
@@ -137,17 +137,17 @@ def _overlay_looks() -> dict[str, OverlayLook]:
         "positive": OverlayLook(
             cosmetic_pen(pos, 1.2, "dash"),
             QBrush(colour(pos, 0.35), PATTERNS["fhatch"]),
-            "positive elbow within limits (/// , dashed)",
+            "positive elbow reaches (///, dashed)",
         ),
         "negative": OverlayLook(
             cosmetic_pen(neg, 1.2, "dot"),
             QBrush(colour(neg, 0.35), PATTERNS["hatch"]),
-            "negative elbow within limits (\\\\\\ , dotted)",
+            "negative elbow reaches (\\\\\\, dotted)",
         ),
         "both": OverlayLook(
             cosmetic_pen(style.PALETTE["pine"], 1.5, "solid"),
             QBrush(colour(style.PALETTE["pine"], 0.14)),
-            "both configurations (solid edge)",
+            "both elbows reach (solid edge)",
         ),
         "comfort": OverlayLook(
             cosmetic_pen(style.PALETTE["pine"], 2.0, "dashdot"),

@@ -1,0 +1,128 @@
+"""The canvas legend: one sample per drawing style with the words that explain it.
+
+Every status marker, ghost line style, overlay and fixture kind shown on the
+canvas appears here with its shape or line style, so nothing relies on colour.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from pyqtgraph.graphicsItems.ScatterPlotItem import drawSymbol
+from PySide6.QtCore import QPointF, QRectF, QSize, Qt
+from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen
+from PySide6.QtWidgets import QSizePolicy, QWidget
+
+from app import style
+
+__all__ = ["LegendEntry", "LegendWidget"]
+
+
+@dataclass(frozen=True)
+class LegendEntry:
+    """One legend row.
+
+    ``kind`` is "header", "symbol" (a scatter symbol name in ``symbol``),
+    "line" (``pen``), "area" (``pen`` and ``brush``, optional ``under`` brush)
+    or "base" (an arm base glyph in ``colour``).
+    """
+
+    kind: str
+    text: str
+    symbol: str = ""
+    colour: str = ""
+    pen: QPen | None = None
+    brush: QBrush | None = None
+    under: QBrush | None = None
+
+
+class LegendWidget(QWidget):
+    """A narrow panel beside the plot that paints the legend entries."""
+
+    ROW = 18.0
+    SAMPLE_W = 30.0
+
+    def __init__(self, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self._entries: list[LegendEntry] = []
+        self._font = QFont()
+        self._font.setPointSizeF(8.5)
+        self._bold = QFont(self._font)
+        self._bold.setBold(True)
+        self.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Preferred)
+        self.setFixedWidth(250)
+
+    def entries(self) -> list[LegendEntry]:
+        return list(self._entries)
+
+    def texts(self) -> list[str]:
+        """Texts of all rows (used by tests and accessibility)."""
+        return [e.text for e in self._entries]
+
+    def set_entries(self, entries: list[LegendEntry]) -> None:
+        if [(e.kind, e.text) for e in entries] == [(e.kind, e.text) for e in self._entries]:
+            return
+        self._entries = list(entries)
+        self.setMinimumHeight(int(self.ROW * len(entries) + 12))
+        self.updateGeometry()
+        self.update()
+
+    def sizeHint(self) -> QSize:
+        return QSize(250, int(self.ROW * len(self._entries) + 12))
+
+    def paintEvent(self, event) -> None:
+        p = QPainter(self)
+        p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        p.fillRect(self.rect(), QColor(style.PAPER))
+        p.setPen(QPen(QColor(style.PALETTE["fog"]), 1.0))
+        p.drawLine(0, 0, 0, self.height())
+        fm = QFontMetricsF(self._font)
+        y = 8.0
+        for e in self._entries:
+            if e.kind == "header":
+                y += 4.0
+                p.setFont(self._bold)
+                p.setPen(QColor(style.INK))
+                p.drawText(QPointF(8.0, y + fm.ascent()), e.text)
+                y += self.ROW
+                continue
+            cy = y + self.ROW / 2 - 2
+            sample = QRectF(10.0, cy - 6.0, self.SAMPLE_W - 6, 12.0)
+            self._paint_sample(p, e, sample)
+            p.setFont(self._font)
+            p.setPen(QColor(style.INK))
+            text = fm.elidedText(e.text, Qt.TextElideMode.ElideRight, self.width() - 50)
+            p.drawText(QPointF(12.0 + self.SAMPLE_W, cy + fm.ascent() / 2 - 1), text)
+            y += self.ROW
+        p.end()
+
+    def _paint_sample(self, p: QPainter, e: LegendEntry, r: QRectF) -> None:
+        p.save()
+        if e.kind == "symbol":
+            p.translate(r.center())
+            drawSymbol(p, e.symbol, 11, QPen(QColor(style.INK), 1.0 / 11), QBrush(QColor(e.colour)))
+        elif e.kind == "line" and e.pen is not None:
+            p.setPen(e.pen)
+            p.drawLine(QPointF(r.left(), r.center().y()), QPointF(r.right(), r.center().y()))
+        elif e.kind == "area":
+            if e.under is not None:
+                p.fillRect(r, e.under)
+            if e.brush is not None:
+                p.fillRect(r, e.brush)
+            if e.pen is not None:
+                p.setPen(e.pen)
+                p.setBrush(Qt.BrushStyle.NoBrush)
+                p.drawRect(r)
+        elif e.kind == "base":
+            c = QColor(e.colour)
+            fill = QColor(c)
+            fill.setAlphaF(0.3)
+            p.setPen(QPen(c, 2.0))
+            p.setBrush(fill)
+            centre = QPointF(r.left() + 6, r.center().y())
+            p.drawEllipse(centre, 5.0, 5.0)
+            tip = QPointF(r.right() - 4, r.center().y())
+            p.drawLine(centre, tip)
+            p.setBrush(QColor(style.PAPER))
+            p.drawEllipse(tip, 3.5, 3.5)
+        p.restore()
