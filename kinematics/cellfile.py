@@ -721,7 +721,7 @@ def _build(data: Any, decoder: _Decoder, source: str) -> Cell:
                     r.add(("sequences", i, "targets", j), "names no target in this cell", tid)
                 continue
             owner = raw_targets[target_ids[tid]].get("arm")
-            if arm_ok and isinstance(owner, str) and owner != ref:
+            if arm_ok and isinstance(owner, str) and owner in arm_ids and owner != ref:
                 r.add(
                     ("sequences", i, "targets", j),
                     f"target belongs to arm {_show(owner)}, not to this sequence's "
