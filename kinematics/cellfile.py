@@ -744,15 +744,15 @@ def _build(data: Any, decoder: _Decoder, source: str) -> Cell:
 # --------------------------------------------------------------------------- reading
 
 
-def _size_text(size: int) -> str:
-    return f"{size / (1024 * 1024):.1f} MB ({size} bytes)"
+def _size_text(size: int, unit: str) -> str:
+    return f"{size / (1024 * 1024):.1f} MB ({size} {unit})"
 
 
-def _too_big(source: str, size: int | None) -> CellFileError:
+def _too_big(source: str, size: int | None, unit: str = "bytes") -> CellFileError:
     cap = f"the {MAX_FILE_BYTES // (1024 * 1024)} MB limit for cell files"
     if size is None:
         return CellFileError(f"{source}: the file is larger than {cap}")
-    return CellFileError(f"{source}: the file is {_size_text(size)}, larger than {cap}")
+    return CellFileError(f"{source}: the file is {_size_text(size, unit)}, larger than {cap}")
 
 
 def parse_cell(text: str, source: str = "<text>") -> Cell:
@@ -777,7 +777,7 @@ def parse_cell(text: str, source: str = "<text>") -> Cell:
     """
     source = _printable(source)
     if len(text) > MAX_FILE_BYTES:
-        raise _too_big(source, len(text))
+        raise _too_big(source, len(text), "characters")
     if text.startswith("\ufeff"):
         text = text[1:]  # a byte-order mark some editors add
     if not text.strip():

@@ -241,7 +241,7 @@ def test_text_over_size_cap(monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setattr(cellfile, "MAX_FILE_BYTES", 100)
     with pytest.raises(CellFileError) as info:
         parse_cell(" " * 101, "big.cell.json")
-    assert "larger than" in str(info.value) and "101 bytes" in str(info.value)
+    assert "larger than" in str(info.value) and "101 characters" in str(info.value)
 
 
 def test_deep_nesting_beyond_the_parser(tmp_path: Path) -> None:
@@ -1134,3 +1134,9 @@ def test_mutated_documents_never_raise_anything_else(data: st.DataObject) -> Non
         parse_cell(json.dumps(mutated), "m")
     except CellFileError as err:
         assert all("\n" not in p and p.startswith("m: ") for p in err.problems)
+
+
+def test_documented_example_is_a_canonical_cell_file() -> None:
+    doc_text = (SAMPLES.parent / "docs" / "cell-format.md").read_text(encoding="utf-8")
+    example = doc_text.split("```json\n", 1)[1].split("```", 1)[0]
+    assert dumps_cell(parse_cell(example)) == example
