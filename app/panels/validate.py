@@ -215,8 +215,19 @@ def replace_arm(cell: Cell, arm: Arm) -> Cell:
 
 
 def replace_target(cell: Cell, target: Target) -> Cell:
-    """The cell with the target of the same id replaced."""
-    return replace(cell, targets=tuple(target if t.id == target.id else t for t in cell.targets))
+    """The cell with the target of the same id replaced.
+
+    A target moved to another arm leaves the sequences of the other arms, since a
+    sequence only visits its own arm's targets.
+    """
+    targets = tuple(target if t.id == target.id else t for t in cell.targets)
+    sequences = tuple(
+        s
+        if s.arm == target.arm or target.id not in s.targets
+        else replace(s, targets=tuple(i for i in s.targets if i != target.id))
+        for s in cell.sequences
+    )
+    return replace(cell, targets=targets, sequences=sequences)
 
 
 def target_with(cell: Cell, target: Target, column: str, text: str) -> Target:
