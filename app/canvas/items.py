@@ -281,17 +281,47 @@ class LabelsItem(pg.GraphicsObject):
         halo = QColor(style.PAPER)
         halo.setAlphaF(0.8)
         h = self._fm.height()
-        for k, i in enumerate(idx):
-            p = tr.map(QPointF(xy[i, 0], xy[i, 1])) + QPointF(9.0, -2.0)
+        asc = self._fm.ascent()
+        placer = _Placer(cell=24.0)
+        # Failure reasons claim space first: they are what a designer must not miss.
+        order = sorted(range(len(idx)), key=lambda k: not failing[k])
+        for k in order:
+            i = idx[k]
+            anchor = tr.map(QPointF(xy[i, 0], xy[i, 1]))
+            placer.block(anchor.x() - 7, anchor.y() - 7, anchor.x() + 7, anchor.y() + 7)
+        for k in order:
+            i = idx[k]
             name = self._names[i] if show_names else ""
             reason = self._reasons[i] if failing[k] else ""
             w = max(
-                self._fm.horizontalAdvance(name),
-                self._rfm.horizontalAdvance(reason) if reason else 0,
+                self._fm.horizontalAdvance(name) if name else 0.0,
+                self._rfm.horizontalAdvance(reason) if reason else 0.0,
             )
             rows = int(bool(name)) + int(bool(reason))
-            top = p.y() - self._fm.ascent() - 1
-            painter.fillRect(QRectF(p.x() - 2, top, w + 4, h * rows + 2), halo)
+            if not rows:
+                continue
+            bh = h * rows
+            a = tr.map(QPointF(xy[i, 0], xy[i, 1]))
+            # Right, left, below, above the marker: the first free spot wins.
+            spots = (
+                (a.x() + 9.0, a.y() - h / 2),
+                (a.x() - 9.0 - w, a.y() - h / 2),
+                (a.x() - w / 2, a.y() + 9.0),
+                (a.x() - w / 2, a.y() - 9.0 - bh),
+            )
+            spot = None
+            for sx, sy in spots:
+                if placer.free(sx, sy, sx + w, sy + bh):
+                    spot = (sx, sy)
+                    break
+            if spot is None:
+                if not reason:
+                    continue  # a crowded name gives way; the tooltip and tables still show it
+                spot = spots[0]
+            sx, sy = spot
+            placer.block(sx, sy, sx + w, sy + bh)
+            painter.fillRect(QRectF(sx - 2, sy, w + 4, bh + 1), halo)
+            p = QPointF(sx, sy + asc)
             if name:
                 painter.setPen(ink)
                 painter.setFont(self._font)
@@ -302,6 +332,32 @@ class LabelsItem(pg.GraphicsObject):
                 painter.setFont(self._reason_font)
                 painter.drawText(p, reason)
         painter.restore()
+
+
+class _Placer:
+    """Occupied screen rectangles in coarse buckets, for greedy label placement."""
+
+    def __init__(self, cell: float) -> None:
+        self.cell = cell
+        self.buckets: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
+
+    def _keys(self, x0: float, y0: float, x1: float, y1: float):
+        c = self.cell
+        for bx in range(int(math.floor(x0 / c)), int(math.floor(x1 / c)) + 1):
+            for by in range(int(math.floor(y0 / c)), int(math.floor(y1 / c)) + 1):
+                yield bx, by
+
+    def free(self, x0: float, y0: float, x1: float, y1: float) -> bool:
+        for key in self._keys(x0, y0, x1, y1):
+            for a0, b0, a1, b1 in self.buckets.get(key, ()):
+                if a0 < x1 and x0 < a1 and b0 < y1 and y0 < b1:
+                    return False
+        return True
+
+    def block(self, x0: float, y0: float, x1: float, y1: float) -> None:
+        r = (x0, y0, x1, y1)
+        for key in self._keys(x0, y0, x1, y1):
+            self.buckets.setdefault(key, []).append(r)
 
 
 def nice_length(target: float) -> float:

@@ -1,0 +1,438 @@
+"""The canvas driven like a user would: simulated mouse and keys on its viewport.
+
+Outside references used: the reach annulus of a two-link arm is
+|a1 - a2| <= r <= a1 + a2 (any robotics text, e.g. Spong, Hutchinson and
+Vidyasagar, "Robot Modeling and Control", planar elbow manipulator), and the
+forward kinematics x = a1 cos t1 + a2 cos(t1 + t2), y = a1 sin t1 + a2 sin(t1 + t2)
+(same source), both written out here independently of the engine.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+from PySide6.QtCore import QPoint, Qt
+from PySide6.QtGui import QPainterPath
+from PySide6.QtWidgets import QGraphicsItem
+
+from app.canvas import CellCanvas
+from app.canvas.qtstyle import OVERLAY_LOOKS
+from app.document import Document
+from kinematics.cell import Arm, Cell, Fixture, Target
+from kinematics.cellfile import load_cell
+from kinematics.ik import Status
+
+SAMPLES = sorted(Path(__file__).resolve().parents[3].glob("sample_cells/*.cell.json"))
+
+pytestmark = pytest.mark.qt_log_ignore("propagateSizeHints")
+
+
+def _cell() -> Cell:
+    arm = Arm("a", "Loader", 0.0, 0.0, 90.0, 400.0, 250.0, (-150.0, 150.0), (-140.0, 140.0))
+    return Cell(
+        "Bench",
+        arms=(arm,),
+        fixtures=(
+            Fixture(
+                "f1",
+                "Tray",
+                "fixture",
+                ((300.0, 200.0), (500.0, 200.0), (500.0, 350.0), (300.0, 350.0)),
+            ),
+            Fixture(
+                "k1", "Aisle", "keep-out", ((-600.0, -500.0), (-200.0, -500.0), (-200.0, -300.0))
+            ),
+        ),
+        targets=(
+            Target("t1", "Pick", 300.0, 300.0, "a"),
+            Target("t2", "Place", -350.0, 250.0, "a"),
+            Target("t3", "Near", 60.0, 50.0, "a"),
+        ),
+    )
+
+
+class Recorder:
+    """A document whose undo stack is a list."""
+
+    def __init__(self, cell: Cell) -> None:
+        self.doc = Document(cell)
+        self.pushed = []
+        self.doc.push = self._push
+
+    def _push(self, edit) -> None:
+        self.pushed.append(edit)
+        self.doc.apply(edit.after)
+
+
+@pytest.fixture
+def rec():
+    return Recorder(_cell())
+
+
+@pytest.fixture
+def canvas(qtbot, rec):
+    c = CellCanvas(rec.doc)
+    qtbot.addWidget(c)
+    c.resize(1100, 800)
+    c.show()
+    qtbot.waitExposed(c)
+    c.zoom_to_fit()
+    return c
+
+
+def _vp(canvas, x, y) -> QPoint:
+    return canvas.world_to_viewport(x, y)
+
+
+def _drag(qtbot, canvas, p0, p1, steps=6, mods=Qt.KeyboardModifier.NoModifier, release=True):
+    vp = canvas.viewport()
+    a, b = _vp(canvas, *p0), _vp(canvas, *p1)
+    qtbot.mousePress(vp, Qt.MouseButton.LeftButton, mods, a)
+    for i in range(1, steps + 1):
+        f = i / steps
+        qtbot.mouseMove(
+            vp, QPoint(round(a.x() + f * (b.x() - a.x())), round(a.y() + f * (b.y() - a.y())))
+        )
+    if release:
+        qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, mods, b)
+    return a, b
+
+
+def _click(qtbot, canvas, x, y, mods=Qt.KeyboardModifier.NoModifier):
+    qtbot.mouseClick(canvas.viewport(), Qt.MouseButton.LeftButton, mods, _vp(canvas, x, y))
+
+
+def _reach_status(arm: Arm, x: float, y: float) -> int | None:
+    """Reach verdict from the annulus law alone (None when inside the annulus)."""
+    r = math.hypot(x - arm.x, y - arm.y)
+    if r > arm.a1 + arm.a2:
+        return int(Status.BEYOND_REACH)
+    if r < abs(arm.a1 - arm.a2):
+        return int(Status.INSIDE_HOLE)
+    return None
+
+
+def _scene_tags(canvas, prefix: str) -> list[str]:
+    tags = (QGraphicsItem.data(it, 0) for it in canvas.plot.scene().items())
+    return [t for t in tags if isinstance(t, str) and t.startswith(prefix)]
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_every_sample_cell_opens_and_draws_its_items(qtbot, path):
+    cell = load_cell(path)
+    doc = Document(cell)
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+    c.resize(900, 600)
+    c.show()
+    qtbot.waitExposed(c)
+    img = c.grab().toImage()
+    assert not img.isNull() and img.width() > 0
+    # One marker per target across the status layers, with the status the engine gives.
+    ev = doc.evaluation
+    drawn = sum(len(sc.data) for sc in c._target_scatter.values())
+    assert drawn == len(cell.targets)
+    for st, sc in c._target_scatter.items():
+        expected = sum(int(np.count_nonzero(e.status == st)) for e in ev.arms.values())
+        assert len(sc.data) == expected
+    assert len(c._fixture_items) == len(cell.fixtures)
+    assert c.plot.getAxis("bottom").labelText == f"x ({cell.units})"
+    assert c.scale_bar.text().endswith(cell.units)
+    assert len(SAMPLES) >= 1
+
+
+def test_dragging_a_base_updates_statuses_live_and_records_one_undo_step(qtbot, canvas, rec):
+    doc = rec.doc
+    arm0 = doc.cell.arm("a")
+    seen: list[tuple[float, float]] = []
+    doc.events.cell_changed.connect(
+        lambda ch: seen.append((doc.cell.arm("a").x, doc.cell.arm("a").y))
+    )
+    # Drag the base far to the right: every target ends beyond the outer reach.
+    _drag(qtbot, canvas, (arm0.x, arm0.y), (900.0, 0.0), steps=8)
+    assert len(rec.pushed) == 1
+    assert rec.pushed[0].label == "Move base of Loader"
+    assert rec.pushed[0].before.arm("a") == arm0
+    arm = doc.cell.arm("a")
+    assert arm.x > 800.0 and abs(arm.y) < 20.0
+    assert (arm.x, arm.y) == (round(arm.x / 10) * 10, round(arm.y / 10) * 10)  # grid snap
+    assert len(seen) >= 3  # live previews during the drag, not only at the end
+    ev = doc.evaluation.arms["a"]
+    for i, tid in enumerate(ev.target_ids):
+        t = next(t for t in doc.cell.targets if t.id == tid)
+        assert int(ev.status[i]) == _reach_status(arm, t.x, t.y) == int(Status.BEYOND_REACH)
+    # The canvas draws them with the out-of-reach marker.
+    assert len(canvas._target_scatter[int(Status.BEYOND_REACH)].data) == 3
+    assert canvas.status_message is not None
+
+
+def test_statuses_follow_back_into_reach(qtbot, canvas, rec):
+    doc = rec.doc
+    doc.preview(replace(doc.cell, arms=(replace(doc.cell.arm("a"), x=2000.0),)))
+    doc.commit_preview("setup")
+    _drag(qtbot, canvas, (2000.0, 0.0), (0.0, 0.0), steps=5)
+    arm = doc.cell.arm("a")
+    ev = doc.evaluation.arms["a"]
+    for i, tid in enumerate(ev.target_ids):
+        t = next(t for t in doc.cell.targets if t.id == tid)
+        verdict = _reach_status(arm, t.x, t.y)
+        if verdict is None:
+            assert int(ev.status[i]) not in (Status.BEYOND_REACH, Status.INSIDE_HOLE)
+        else:
+            assert int(ev.status[i]) == verdict
+    assert len(rec.pushed) == 2
+
+
+def test_esc_mid_drag_restores_the_document_exactly(qtbot, canvas, rec):
+    doc = rec.doc
+    before = doc.cell
+    t = before.targets[0]
+    _drag(qtbot, canvas, (t.x, t.y), (t.x + 150.0, t.y - 120.0), release=False)
+    assert doc.cell != before and doc.previewing
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Escape)
+    assert doc.cell is before
+    assert not doc.previewing
+    # The rest of that drag is ignored, and no undo step is recorded.
+    qtbot.mouseMove(canvas.viewport(), _vp(canvas, t.x + 300.0, t.y))
+    qtbot.mouseRelease(canvas.viewport(), Qt.MouseButton.LeftButton, pos=_vp(canvas, 0, 0))
+    assert doc.cell is before
+    assert rec.pushed == []
+
+
+def test_ghost_poses_end_on_their_targets(canvas, rec):
+    doc = rec.doc
+    arm = doc.cell.arm("a")
+    ev = canvas.evaluation("a")
+    for c in (0, 1):
+        path: QPainterPath = canvas._ghost_items[("a", c, "chosen")].path()
+        pts = [(path.elementAt(k).x, path.elementAt(k).y) for k in range(path.elementCount())]
+        tips = pts[2::3]
+        for i, tid in enumerate(ev.target_ids):
+            if int(ev.chosen[i]) != c:
+                continue
+            t = next(t for t in doc.cell.targets if t.id == tid)
+            q1, q2 = ev.ik.q_deg[i, c]
+            # Independent forward kinematics of the planar two-link arm.
+            t1 = math.radians(arm.heading_deg + q1)
+            t12 = t1 + math.radians(q2)
+            fx = arm.x + arm.a1 * math.cos(t1) + arm.a2 * math.cos(t12)
+            fy = arm.y + arm.a1 * math.sin(t1) + arm.a2 * math.sin(t12)
+            assert (fx, fy) == pytest.approx((t.x, t.y), abs=1e-6)
+            assert any(math.hypot(px - t.x, py - t.y) < 1e-6 for px, py in tips)
+    # Infeasible targets have no ghost at all.
+    bad = [i for i in range(len(ev.target_ids)) if not ev.feasible[i]]
+    assert bad, "the test cell needs an unreachable target"
+    for i in bad:
+        t = doc.cell.targets[i]
+        for item in canvas._ghost_items.values():
+            p = item.path()
+            for k in range(p.elementCount()):
+                assert math.hypot(p.elementAt(k).x - t.x, p.elementAt(k).y - t.y) > 1e-6
+
+
+def test_ghost_modes(canvas, rec):
+    def drawn():
+        return sum(it.path().elementCount() for it in canvas._ghost_items.values())
+
+    assert drawn() > 0
+    canvas.actions()["ghosts.none"].setChecked(True)
+    assert drawn() == 0
+    canvas.actions()["ghosts.selected"].setChecked(True)
+    assert drawn() == 0
+    rec.doc.selection.set(("t1",))
+    assert drawn() in (3, 6, 9)  # one target: one to three poses of three points
+    assert canvas.actions()["ghosts.all"].isChecked() is False
+
+
+@pytest.mark.parametrize("key", ["annulus", "positive", "negative", "both", "comfort"])
+def test_each_overlay_toggle_adds_and_removes_scene_items(canvas, key):
+    act = canvas.actions()[f"overlay.{key}"]
+    act.setChecked(False)
+    assert _scene_tags(canvas, f"overlay.{key}:") == []
+    act.setChecked(True)
+    assert _scene_tags(canvas, f"overlay.{key}:") == [f"overlay.{key}:a"]
+    look_text = OVERLAY_LOOKS[key].legend
+    assert look_text in canvas.legend.texts()
+    act.setChecked(False)
+    assert _scene_tags(canvas, f"overlay.{key}:") == []
+
+
+def test_annulus_follows_a_base_move_with_outer_radius_a1_plus_a2(qtbot, canvas, rec):
+    doc = rec.doc
+    _drag(qtbot, canvas, (0.0, 0.0), (-250.0, 130.0))
+    arm = doc.cell.arm("a")
+    (item,) = canvas.overlay_items("annulus")
+    rect = item.mapRectToParent(item.path().boundingRect())
+    assert rect.center().x() == pytest.approx(arm.x, abs=1.0)
+    assert rect.center().y() == pytest.approx(arm.y, abs=1.0)
+    assert rect.width() == pytest.approx(2 * (arm.a1 + arm.a2), rel=1e-3)
+
+
+def test_shift_drag_on_base_and_handle_drag_turn_the_arm(qtbot, canvas, rec):
+    doc = rec.doc
+    hx, hy = canvas._arm_items["a"].handle_point()
+    _drag(qtbot, canvas, (hx, hy), (300.0, 300.0))  # handle: heading points at the pointer
+    assert rec.pushed[-1].label == "Rotate Loader"
+    assert doc.cell.arm("a").heading_deg == pytest.approx(45.0)
+    assert (doc.cell.arm("a").x, doc.cell.arm("a").y) == (0.0, 0.0)
+    # Shift-drag on the base turns it by the angle swept around the base.
+    _drag(qtbot, canvas, (10.0, 0.0), (0.0, 10.0), mods=Qt.KeyboardModifier.ShiftModifier)
+    assert rec.pushed[-1].label == "Rotate Loader"
+    assert len(rec.pushed) == 2
+
+
+def test_dragging_a_target_snaps_to_a_fixture_vertex(qtbot, canvas, rec):
+    doc = rec.doc
+    t = doc.cell.targets[1]
+    px = canvas._px()
+    _drag(qtbot, canvas, (t.x, t.y), (500.0 + 3 * px, 350.0 - 2 * px))
+    moved = next(x for x in doc.cell.targets if x.id == t.id)
+    assert (moved.x, moved.y) == (500.0, 350.0)
+    assert rec.pushed[-1].label == "Move target Place"
+
+
+def test_dragging_a_fixture_and_a_vertex(qtbot, canvas, rec):
+    doc = rec.doc
+    _drag(qtbot, canvas, (400.0, 230.0), (400.0, 130.0))
+    f = doc.cell.fixtures[0]
+    assert rec.pushed[-1].label == "Move fixture Tray"
+    dx, dy = f.outline[0][0] - 300.0, f.outline[0][1] - 200.0
+    assert dx == pytest.approx(0.0, abs=10.0) and dy == pytest.approx(-100.0, abs=10.0)
+    assert all(
+        (x - x0, y - y0) == (dx, dy)
+        for (x, y), (x0, y0) in zip(f.outline, _cell().fixtures[0].outline, strict=True)
+    )
+    vx, vy = f.outline[2]
+    _drag(qtbot, canvas, (vx, vy), (vx + 60.0, vy + 40.0))
+    assert rec.pushed[-1].label == "Move vertex of Tray"
+    g = doc.cell.fixtures[0]
+    assert g.outline[2] != f.outline[2] and g.outline[0] == f.outline[0]
+
+
+def test_clicks_select_and_outside_selection_highlights(qtbot, canvas, rec):
+    doc = rec.doc
+    _click(qtbot, canvas, 300.0, 300.0)
+    assert doc.selection.ids == ("t1",)
+    _click(qtbot, canvas, -350.0, 250.0, Qt.KeyboardModifier.ControlModifier)
+    assert doc.selection.ids == ("t1", "t2")
+    assert len(canvas._select_scatter.data) == 2
+    doc.selection.set(("f1",))
+    assert canvas._fixture_items["f1"].selected and len(canvas._select_scatter.data) == 0
+    _click(qtbot, canvas, -900.0, 700.0)  # empty canvas
+    assert doc.selection.ids == ()
+
+
+def test_delete_key_and_context_menu_delete(qtbot, canvas, rec):
+    doc = rec.doc
+    _click(qtbot, canvas, 300.0, 300.0)
+    canvas.plot.setFocus()
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Delete)
+    assert [t.id for t in doc.cell.targets] == ["t2", "t3"]
+    assert rec.pushed[-1].label == "Delete target Pick"
+    menu = canvas.context_menu_at(-400.0, -450.0)
+    acts = {a.text(): a for a in menu.actions()}
+    assert "Delete fixture Aisle" in acts
+    acts["Delete fixture Aisle"].trigger()
+    assert [f.id for f in doc.cell.fixtures] == ["f1"]
+    assert len(rec.pushed) == 2
+
+
+def test_set_position_dialog_gives_exact_values(canvas, rec):
+    doc = rec.doc
+    canvas.ask_position = lambda *a, **k: (123.456, -78.9, 37.5)
+    menu = canvas.context_menu_at(0.0, 0.0)
+    next(a for a in menu.actions() if a.text() == "Set position…").trigger()
+    arm = doc.cell.arm("a")
+    assert (arm.x, arm.y, arm.heading_deg) == (123.456, -78.9, 37.5)
+    assert len(rec.pushed) == 1
+    canvas.ask_position = lambda *a, **k: (10.0, 20.0, None)
+    menu = canvas.context_menu_at(-350.0, 250.0)
+    next(a for a in menu.actions() if a.text() == "Set position…").trigger()
+    t = next(t for t in doc.cell.targets if t.id == "t2")
+    assert (t.x, t.y) == (10.0, 20.0)
+
+
+def test_measuring_tool_reads_distance_and_angle(qtbot, canvas):
+    canvas.actions()["tool.measure"].setChecked(True)
+    messages: list[str] = []
+    canvas.status_message.connect(messages.append)
+    _click(qtbot, canvas, -100.0, -100.0)
+    _click(qtbot, canvas, 200.0, 300.0)
+    d, a = canvas.measurement()
+    # Both clicks snap to the 10-unit grid; (-100,-100) to (200,300) is a 3-4-5 triangle.
+    assert d == pytest.approx(500.0)
+    assert a == pytest.approx(math.degrees(math.atan2(400.0, 300.0)))
+    assert "500.0 mm" in canvas._measure_label.toPlainText()
+    assert any("500.0 mm" in m for m in messages)
+
+
+def test_polygon_rectangle_and_add_target_tools(qtbot, canvas, rec):
+    doc = rec.doc
+    canvas.actions()["tool.polygon"].setChecked(True)
+    for x, y in ((-800.0, 400.0), (-600.0, 400.0), (-700.0, 550.0)):
+        _click(qtbot, canvas, x, y)
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Return)
+    new = doc.cell.fixtures[-1]
+    assert new.outline == ((-800.0, 400.0), (-600.0, 400.0), (-700.0, 550.0))
+    assert rec.pushed[-1].label == f"Add fixture {new.name}"
+    canvas.actions()["tool.rectangle"].setChecked(True)
+    _drag(qtbot, canvas, (600.0, -100.0), (700.0, -300.0))
+    rect = doc.cell.fixtures[-1]
+    assert sorted(rect.outline) == [
+        (600.0, -300.0),
+        (600.0, -100.0),
+        (700.0, -300.0),
+        (700.0, -100.0),
+    ]
+    canvas.actions()["tool.add_target"].setChecked(True)
+    _click(qtbot, canvas, 100.0, 400.0)
+    t = doc.cell.targets[-1]
+    assert (t.x, t.y, t.arm) == (100.0, 400.0, "a")
+    assert rec.pushed[-1].label == f"Add target {t.name}"
+    assert len(rec.pushed) == 3
+
+
+def test_hover_reports_target_and_cursor(qtbot, canvas, rec):
+    hovered: list[str] = []
+    cursor: list[tuple[float, float]] = []
+    canvas.hovered_target.connect(hovered.append)
+    canvas.cursor_moved.connect(lambda x, y: cursor.append((x, y)))
+    qtbot.mouseMove(canvas.viewport(), _vp(canvas, -350.0, 250.0))
+    assert hovered[-1] == "t2"
+    assert cursor[-1] == pytest.approx((-350.0, 250.0), abs=3 * canvas._px())
+    tip = canvas.plot.viewport().toolTip()
+    assert "Place" in tip
+    qtbot.mouseMove(canvas.viewport(), _vp(canvas, -900.0, -700.0))
+    assert hovered[-1] == ""
+
+
+def test_snap_pitch_and_alt_free_drag(qtbot, canvas, rec):
+    with pytest.raises(ValueError):
+        canvas.set_snap_pitch(0.0)
+    canvas.set_snap_pitch(25.0)
+    _drag(qtbot, canvas, (0.0, 0.0), (-137.0, 61.0))
+    arm = rec.doc.cell.arm("a")
+    assert arm.x % 25.0 == 0.0 and arm.y % 25.0 == 0.0
+    canvas.actions()["snap.enabled"].setChecked(False)
+    _drag(qtbot, canvas, (arm.x, arm.y), (arm.x + 33.3, arm.y + 12.1))
+    arm2 = rec.doc.cell.arm("a")
+    assert (arm2.x % 25.0, arm2.y % 25.0) != (0.0, 0.0)
+
+
+def test_zoom_to_target_centres_it(canvas):
+    canvas.zoom_to("t2")
+    (x0, x1), (y0, y1) = canvas.vb.viewRange()
+    assert (x0 + x1) / 2 == pytest.approx(-350.0, abs=1.0)
+    assert (y0 + y1) / 2 == pytest.approx(250.0, abs=1.0)
+
+
+def test_legend_explains_statuses_ghosts_and_fixtures(canvas):
+    texts = canvas.legend.texts()
+    assert "fails: out of reach" in texts and "reachable" in texts
+    assert any("chosen" in t for t in texts) and any("also works" in t for t in texts)
+    assert any(t.startswith("keep-out") for t in texts)
+    assert any("Loader" in t for t in texts)
