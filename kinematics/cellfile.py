@@ -484,7 +484,8 @@ def _read_arm(value: Any, path: JsonPath, r: _Report) -> Arm | None:
     if base_extra:
         # "base" is a known key, so it cannot clash with a real extra of the arm.
         extra["base"] = base_extra
-    assert links is not None and limits is not None
+    if links is None or limits is None:
+        return None  # a bad number inside was already reported by _scan
     return Arm(
         id=arm_id,  # type: ignore[arg-type]
         name=name,  # type: ignore[arg-type]
