@@ -140,8 +140,11 @@ class MainWindow(QMainWindow):
         self.table_dock = self._dock(
             "Targets", "table_dock", self.target_table, Qt.DockWidgetArea.BottomDockWidgetArea
         )
+        # The arm panel runs full height; the table spans under the canvas and the problems.
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
-        self.setCorner(Qt.Corner.BottomRightCorner, Qt.DockWidgetArea.RightDockWidgetArea)
+        self.setCorner(Qt.Corner.BottomRightCorner, Qt.DockWidgetArea.BottomDockWidgetArea)
+        self.resizeDocks([self.arm_dock, self.problems_dock], [275, 320], Qt.Orientation.Horizontal)
+        self.resizeDocks([self.table_dock], [290], Qt.Orientation.Vertical)
 
         self._build_status_bar()
         self._build_actions()

@@ -109,7 +109,9 @@ class ArmPanel(QWidget):
     # ------------------------------------------------------------------ building
 
     def _add_field(self, grid: QGridLayout, row: int, f: ArmField) -> int:
-        label = QLabel(f.label.capitalize() if f.key != "name" else "Name")
+        # Symbols (a1, q2 min) keep their case; words start with a capital.
+        text = f.label if f.label[:1] in "aq" and f.label[1:2].isdigit() else f.label.capitalize()
+        label = QLabel(text)
         edit = QLineEdit()
         edit.setObjectName(f"field_{f.key}")
         edit.setAccessibleName(f.label)

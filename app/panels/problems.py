@@ -45,6 +45,7 @@ class ProblemsList(QListWidget):
         self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
         self.setWordWrap(True)
         self.setUniformItemSizes(False)
+        self.setSpacing(3)
         self.itemClicked.connect(self._on_clicked)
         self.itemActivated.connect(self._on_clicked)
         self.itemSelectionChanged.connect(self._on_view_selection)

@@ -38,7 +38,7 @@ from app.panels.validate import Invalid, check_cell, format_number, replace_targ
 from app.style import status_style
 from kinematics.ik import Status
 
-__all__ = ["Column", "COLUMNS", "SORT_ROLE", "TargetTableModel", "TargetTable"]
+__all__ = ["Column", "COLUMNS", "SORT_ROLE", "PAST_LIMIT", "TargetTableModel", "TargetTable"]
 
 #: Role holding the value the proxy sorts by (numbers sort as numbers).
 SORT_ROLE = Qt.ItemDataRole.UserRole + 1
@@ -63,10 +63,10 @@ COLUMNS = (
     Column("arm", "arm", "Arm the target is assigned to (editable)", editable=True),
     Column("status", "status", "ok, or why the target fails"),
     Column("elbow", "elbow", "Chosen elbow configuration (both at a singular pose)"),
-    Column("q1p", "q1 +", "q1 of the positive configuration (q2 > 0), degrees", numeric=True),
-    Column("q2p", "q2 +", "q2 of the positive configuration, degrees", numeric=True),
-    Column("q1n", "q1 −", "q1 of the negative configuration (q2 < 0), degrees", numeric=True),
-    Column("q2n", "q2 −", "q2 of the negative configuration, degrees", numeric=True),
+    Column("q1p", "q1 +", "q1, positive configuration (q2 > 0); ✕ past its limit", numeric=True),
+    Column("q2p", "q2 +", "q2, positive configuration; ✕ past its limit", numeric=True),
+    Column("q1n", "q1 −", "q1, negative configuration (q2 < 0); ✕ past its limit", numeric=True),
+    Column("q2n", "q2 −", "q2, negative configuration; ✕ past its limit", numeric=True),
     Column(
         "limit",
         "limit margin",
@@ -87,6 +87,8 @@ COLUMNS = (
     ),
 )
 _KEYS = [c.key for c in COLUMNS]
+# Widest a column starts (pixels); longer text is elided and shown whole in the tooltip.
+_COLUMN_CAPS = {"id": 110, "name": 160, "status": 290}
 _EDIT_LABELS = {
     "name": "Rename {id}",
     "x": "Move {id}",
@@ -105,6 +107,16 @@ class _Row:
     sort: list[Any]
     status: int
     feasible: bool
+    tip: str = ""
+
+
+#: Marks a joint angle past its limit (the status column says which limit fails).
+PAST_LIMIT = "✕"
+
+
+def _joint(v: float, within: bool) -> str:
+    text = degrees(v, False)
+    return text if within or not math.isfinite(v) else f"{text} {PAST_LIMIT}"
 
 
 def _num(v: float) -> float:
@@ -147,6 +159,7 @@ class TargetTableModel(QAbstractTableModel):
                 continue
             ik = ev.ik
             q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
+            within = ik.within_limits[i].reshape(-1)
             chosen = int(ev.chosen[i])
             k = chosen if chosen >= 0 else closest_configuration(ev, i)
             limit = float(ik.limit_margin_deg[i, k])
@@ -160,16 +173,17 @@ class TargetTableModel(QAbstractTableModel):
                 length(t.x, u, False),
                 length(t.y, u, False),
                 t.arm,
-                status_cell(ev, i, u),
+                status_cell(ev, i, u, short=True),
                 elbow,
-                *(degrees(v, False) for v in q),
+                *(_joint(v, bool(ok)) for v, ok in zip(q, within, strict=True)),
                 degrees(limit, False),
                 length(reach, u, False),
                 f"{manip:.4g}" if math.isfinite(manip) else "—",
             ]
             sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
             sort += [_num(limit), _num(reach), _num(manip)]
-            rows.append(_Row(t.id, text, sort, st, bool(ev.feasible[i])))
+            tip = status_cell(ev, i, u)
+            rows.append(_Row(t.id, text, sort, st, bool(ev.feasible[i]), tip))
         self._rows = rows
 
     def _on_cell_changed(self, changes: Changes) -> None:
@@ -210,10 +224,17 @@ class TargetTableModel(QAbstractTableModel):
         col = COLUMNS[section]
         if role == Qt.ItemDataRole.DisplayRole:
             units = self.document.cell.units
-            if col.key in ("x", "y", "reach"):
-                return f"{col.header} ({units})"
-            if col.key in ("q1p", "q2p", "q1n", "q2n", "limit"):
-                return f"{col.header} (°)"
+            # Units on a second line keep the numeric columns narrow.
+            if col.key in ("x", "y"):
+                return f"{col.header}\n({units})"
+            if col.key in ("q1p", "q2p", "q1n", "q2n"):
+                return f"{col.header}\n(°)"
+            if col.key == "limit":
+                return "limit\nmargin (°)"
+            if col.key == "reach":
+                return f"reach\nmargin ({units})"
+            if col.key == "manip":
+                return f"manipu-\nlability ({units}²)"
             return col.header
         if role == Qt.ItemDataRole.ToolTipRole:
             return col.tip
@@ -236,6 +257,8 @@ class TargetTableModel(QAbstractTableModel):
             return row.sort[c]
         if role == ID_ROLE:
             return row.id
+        if role == Qt.ItemDataRole.ToolTipRole and key in ("id", "name", "status"):
+            return row.tip if key == "status" and row.tip else row.text[c]
         if role == Qt.ItemDataRole.TextAlignmentRole and COLUMNS[c].numeric:
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         if key == "status":
@@ -245,8 +268,6 @@ class TargetTableModel(QAbstractTableModel):
                 f = QFont()
                 f.setBold(True)
                 return f
-            if role == Qt.ItemDataRole.ToolTipRole:
-                return row.text[c]
         return None
 
     def flags(self, index: QModelIndex | QPersistentModelIndex) -> Qt.ItemFlag:
@@ -330,11 +351,19 @@ class TargetTable(QTableView):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(False)
         self.setItemDelegateForColumn(_KEYS.index("arm"), _ArmDelegate(document, self))
-        self.resizeColumnsToContents()
+        self.fit_columns()
 
         self.selectionModel().selectionChanged.connect(self._on_view_selection)
         self.source.modelReset.connect(self._show_selection)
+        self.source.modelReset.connect(self.fit_columns)
         document.selection.changed.connect(lambda _ids: self._show_selection())
+
+    def fit_columns(self) -> None:
+        """Size columns to their contents, long names and reasons capped (they elide)."""
+        self.resizeColumnsToContents()
+        for key, cap in _COLUMN_CAPS.items():
+            c = _KEYS.index(key)
+            self.setColumnWidth(c, min(self.columnWidth(c), cap))
 
     def selected_ids(self) -> list[str]:
         """Target ids of the selected rows, in view order."""

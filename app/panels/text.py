@@ -55,8 +55,11 @@ def closest_configuration(ev: ArmEvaluation, i: int) -> int:
     return 0 if margins[0] >= margins[1] else 1
 
 
-def failure_detail(ev: ArmEvaluation, i: int, units: str) -> str:
-    """Why target ``i`` fails and by how much, e.g. "beyond outer reach by 28.8 mm"."""
+def failure_detail(ev: ArmEvaluation, i: int, units: str, short: bool = False) -> str:
+    """Why target ``i`` fails and by how much, e.g. "beyond outer reach by 28.8 mm".
+
+    ``short`` leaves out which configuration comes closest (for narrow table cells).
+    """
     st = Status(int(ev.status[i]))
     reason = REASONS[st]
     if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
@@ -65,9 +68,12 @@ def failure_detail(ev: ArmEvaluation, i: int, units: str) -> str:
         k = closest_configuration(ev, i)
         joint = 0 if st is Status.Q1_LIMIT else 1
         past = -float(ev.ik.joint_margin_deg[i, k, joint])
-        return f"{reason} by {degrees(past)} (closest: {ELBOWS[k]} elbow)"
+        text = f"{reason} by {degrees(past)}"
+        return text if short else f"{text} (closest: {ELBOWS[k]} elbow)"
     if st is Status.ELBOW_EXCLUDED:
         fits = [ELBOWS[k] for k in range(2) if bool(ev.ik.within_limits[i, k].all())]
+        if short:
+            return f"only the {' and '.join(fits)} elbow fits (setting '{ev.arm.elbow}')"
         return f"{reason} '{ev.arm.elbow}' (only the {' and '.join(fits)} elbow fits)"
     return reason
 
@@ -93,13 +99,13 @@ def problems(evaluation: CellEvaluation) -> list[tuple[str, str]]:
     return out
 
 
-def status_cell(ev: ArmEvaluation, i: int, units: str) -> str:
-    """Status column text: "● ok" or "▲ FAIL: q1 limit by 4.0° (closest: positive elbow)"."""
+def status_cell(ev: ArmEvaluation, i: int, units: str, short: bool = False) -> str:
+    """Status text: "● ok" or "▲ FAIL: q1 limit by 4.0° (closest: positive elbow)"."""
     st = int(ev.status[i])
     if st == Status.OK:
         return status_text(st)
     glyph = status_style(st).glyph
-    return f"{glyph} FAIL: {failure_detail(ev, i, units)}"
+    return f"{glyph} FAIL: {failure_detail(ev, i, units, short)}"
 
 
 def hover_text(evaluation: CellEvaluation, target_id: str) -> str:

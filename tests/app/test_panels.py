@@ -309,11 +309,11 @@ def test_table_headers_name_the_units(qtbot):
     m = table.source
     assert (
         m.headerData(KEYS.index("x"), Qt.Orientation.Horizontal, Qt.ItemDataRole.DisplayRole)
-        == "x (in)"
+        == "x\n(in)"
     )
     assert (
         m.headerData(KEYS.index("q1p"), Qt.Orientation.Horizontal, Qt.ItemDataRole.DisplayRole)
-        == "q1 + (°)"
+        == "q1 +\n(°)"
     )
 
 
