@@ -153,6 +153,10 @@ class FieldBinding(QObject):
     def _show_reason(self, reason: str) -> None:
         invalid = bool(reason)
         self.reason.setText(f"{INVALID_MARK} {reason}" if invalid else "")
+        if invalid and self.reason.wordWrap():
+            # Layouts in a scroll area can under-size wrapped labels; reserve the wrapped height.
+            width = max(self.edit.width(), 120)
+            self.reason.setMinimumHeight(self.reason.heightForWidth(width))
         self.reason.setVisible(invalid)
         self.edit.setToolTip(reason)
         if bool(self.edit.property("invalid")) != invalid:

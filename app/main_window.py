@@ -22,6 +22,7 @@ from PySide6.QtWidgets import (
     QMenu,
     QMessageBox,
     QPushButton,
+    QSizePolicy,
     QToolBar,
     QWidget,
 )
@@ -158,7 +159,7 @@ class MainWindow(QMainWindow):
         self.undo_stack.redoTextChanged.connect(self._update_undo_texts)
         self.undo_stack.canUndoChanged.connect(self._update_undo_texts)
         self.undo_stack.canRedoChanged.connect(self._update_undo_texts)
-        self.problems.zoom_requested.connect(self.canvas.zoom_to)
+        self.problems.zoom_requested.connect(lambda tid: self.canvas.zoom_to(tid))
         self.problems.count_changed.connect(self._on_problem_count)
         self.target_table.source.refused.connect(
             lambda msg: self.statusBar().showMessage(msg, 8000)
@@ -190,6 +191,8 @@ class MainWindow(QMainWindow):
         self.hover_label = QLabel()
         self.hover_label.setObjectName("hover_label")
         self.hover_label.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        # Long hover texts are cut at the caution rather than pushing it away; the tooltip is whole.
+        self.hover_label.setSizePolicy(QSizePolicy.Policy.Ignored, QSizePolicy.Policy.Preferred)
         self.cursor_label = QLabel()
         self.cursor_label.setObjectName("cursor_label")
         self.cursor_label.setMinimumWidth(
@@ -323,6 +326,7 @@ class MainWindow(QMainWindow):
         self.hover_label.setProperty("hover", bool(text))
         if text:
             self.hover_label.setText(text)
+            self.hover_label.setToolTip(text)
         else:
             self._show_summary()
 

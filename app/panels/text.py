@@ -117,15 +117,18 @@ def hover_text(evaluation: CellEvaluation, target_id: str) -> str:
         ev, i = evaluation.locate(target_id)
     except KeyError:
         return ""
-    name = cell.targets[[t.id for t in cell.targets].index(target_id)].name
-    parts = [f"{target_id} {name}: {status_cell(ev, i, cell.units)}"]
-    for k, elbow in enumerate(ELBOWS):
+    st = int(ev.status[i])
+    verdict = "ok" if st == Status.OK else failure_detail(ev, i, cell.units, short=True)
+    parts = [f"{target_id} {status_style(st).glyph} {verdict}"]
+    # (+) / (−) as in the table headers: the positive and negative elbow configurations.
+    for k, sign in enumerate(("+", "−")):
         q1, q2 = (float(v) for v in ev.ik.q_deg[i, k])
-        mark = " (chosen)" if int(ev.chosen[i]) == k else ""
-        parts.append(f"{elbow}{mark} q1 {degrees(q1)} q2 {degrees(q2)}")
+        mark = ", chosen" if int(ev.chosen[i]) == k else ""
+        parts.append(f"({sign}{mark}) q1 {degrees(q1)} q2 {degrees(q2)}")
     k = int(ev.chosen[i]) if int(ev.chosen[i]) >= 0 else closest_configuration(ev, i)
-    parts.append(f"limit margin {degrees(float(ev.ik.limit_margin_deg[i, k]))}")
-    parts.append(f"reach margin {length(float(ev.ik.reach_margin[i]), cell.units)}")
+    limit = degrees(float(ev.ik.limit_margin_deg[i, k]))
+    reach = length(float(ev.ik.reach_margin[i]), cell.units)
+    parts.append(f"margins: limit {limit}, reach {reach}")
     if bool(ev.ik.singular[i]):
         parts.append("singular pose")
     return " | ".join(parts)

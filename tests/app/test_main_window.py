@@ -399,12 +399,24 @@ def test_hover_shows_both_configurations_and_margins(window):
     reach = min(arm.a1 + arm.a2 - math.hypot(dx, dy), math.hypot(dx, dy) - abs(arm.a1 - arm.a2))
     window.canvas.hovered_target.emit("outfeed_place")
     text = window.hover_label.text()
-    assert text.startswith("outfeed_place Outfeed place, near: ● ok")
-    (q1p, q2p), (q1n, q2n) = expected
-    assert "positive" in text and f"q1 {q1p:.1f}° q2 {q2p:.1f}°" in text
-    assert f"q1 {q1n:.1f}° q2 {q2n:.1f}°" in text
-    assert f"reach margin {reach:.1f} mm" in text
-    assert "limit margin" in text
+    assert text.startswith("outfeed_place ● ok | ")
+    # Both are within limits here; the chosen one keeps the larger margin to its nearest limit.
+    margins = [
+        min(
+            q1 - arm.q1_limits[0],
+            arm.q1_limits[1] - q1,
+            q2 - arm.q2_limits[0],
+            arm.q2_limits[1] - q2,
+        )
+        for q1, q2 in expected
+    ]
+    assert min(margins) > 0
+    chosen = 0 if margins[0] >= margins[1] else 1
+    for k, sign in enumerate("+−"):
+        q1, q2 = expected[k]
+        mark = ", chosen" if k == chosen else ""
+        assert f"({sign}{mark}) q1 {q1:.1f}° q2 {q2:.1f}°" in text
+    assert f"margins: limit {margins[chosen]:.1f}°, reach {reach:.1f} mm" in text
     window.canvas.hovered_target.emit("")
     assert "targets:" in window.hover_label.text()
 
