@@ -47,7 +47,8 @@ def run(
     -------
     int
         0 on success, 2 when the cell file is bad (its one-line message is
-        printed to stderr), 1 when the screenshot could not be written.
+        printed to stderr), 1 when there is no display to open a window on or
+        the screenshot could not be written.
     """
     path = Path(cell_path) if cell_path is not None else default_cell_path()
     try:
@@ -55,7 +56,14 @@ def run(
     except CellFileError as exc:
         print(str(exc), file=sys.stderr)
         return 2
-    if screenshot is not None and not _has_display() and not os.environ.get("QT_QPA_PLATFORM"):
+    if not _has_display() and not os.environ.get("QT_QPA_PLATFORM"):
+        if screenshot is None:
+            print(
+                "no display found (DISPLAY and WAYLAND_DISPLAY are not set); "
+                "use --screenshot, or set QT_QPA_PLATFORM",
+                file=sys.stderr,
+            )
+            return 1
         os.environ["QT_QPA_PLATFORM"] = "offscreen"
 
     from PySide6.QtCore import QTimer

@@ -380,9 +380,15 @@ class MainWindow(QMainWindow):
         )
         return answer == QMessageBox.StandardButton.Discard
 
-    def show_error(self, title: str, message: str) -> None:
-        """Tell the user something failed (a one-line message naming file, path and value)."""
-        QMessageBox.warning(self, title, message)
+    def show_error(self, title: str, message: str, details: str = "") -> None:
+        """Tell the user something failed (a one-line message naming file, path and value).
+
+        ``details`` (every problem found, one per line) sits behind a "Show Details" button.
+        """
+        box = QMessageBox(QMessageBox.Icon.Warning, title, message, parent=self)
+        if details and details != message:
+            box.setDetailedText(details)
+        box.exec()
 
     def show_caution(self) -> QMessageBox:
         """Show the full safety caution (non-blocking)."""
@@ -423,7 +429,9 @@ class MainWindow(QMainWindow):
         try:
             return load_cell(path)
         except CellFileError as exc:
-            self.show_error("Could not open cell file", str(exc))
+            more = len(exc.problems) - 1
+            message = str(exc) + (f" (and {more} more problems)" if more > 0 else "")
+            self.show_error("Could not open cell file", message, "\n".join(exc.problems))
             return None
 
     def _show_new_document(self, cell: Cell, path: Path | None) -> None:

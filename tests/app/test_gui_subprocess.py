@@ -141,3 +141,21 @@ def test_bad_cell_file_gives_one_line_and_exit_code_2(tmp_path, problem):
     if problem == "bad value":
         assert "joint_limits_deg" in lines[0] and "90" in lines[0]
     assert "Traceback" not in proc.stderr
+
+
+def test_without_a_display_the_window_is_refused_with_one_line(tmp_path):
+    env_code = """
+        import os, sys
+        from pathlib import Path
+        for name in ("DISPLAY", "WAYLAND_DISPLAY", "QT_QPA_PLATFORM"):
+            os.environ.pop(name, None)
+        from app import gui
+        sys.exit(gui.run(None))
+        """
+    # Linux (the CI platform): a window needs X11 or Wayland unless a Qt platform is chosen.
+    proc = run_python(env_code, tmp_path, timeout=120)
+    assert proc.returncode == 1
+    assert proc.stderr.strip().splitlines() == [
+        "no display found (DISPLAY and WAYLAND_DISPLAY are not set); "
+        "use --screenshot, or set QT_QPA_PLATFORM"
+    ]

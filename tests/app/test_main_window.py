@@ -40,6 +40,7 @@ class Answers:
         self.revert = True
         self.asked: list[str] = []
         self.errors: list[tuple[str, str]] = []
+        self.details: list[str] = []
 
 
 @pytest.fixture
@@ -52,8 +53,9 @@ def _answer(win: MainWindow, answers: Answers) -> MainWindow:
         answers.asked.append("unsaved")
         return answers.unsaved
 
-    def error(title, message):
+    def error(title, message, details=""):
         answers.errors.append((title, message))
+        answers.details.append(details)
 
     win.ask_unsaved_changes = unsaved
     win.ask_open_path = lambda: answers.open_path
@@ -264,6 +266,7 @@ def test_bad_file_open_keeps_the_current_document(window, answers, tmp_path):
     message = answers.errors[0][1]
     assert message.startswith("broken.cell.json: ") and "\n" not in message
     assert "links" in message and "-325" in message
+    assert message.split(" (and ")[0] in answers.details[0].splitlines()
     assert answers.asked == []  # a bad file never costs the user their changes
     assert dumps_cell(window.document.cell) == before
     assert window.document.path == TRAY and window.document.dirty
