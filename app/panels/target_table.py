@@ -178,7 +178,7 @@ class TargetTableModel(QAbstractTableModel):
                 *(_joint(v, bool(ok)) for v, ok in zip(q, within, strict=True)),
                 degrees(limit, False),
                 length(reach, u, False),
-                f"{manip:.4g}" if math.isfinite(manip) else "—",
+                f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
             ]
             sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
             sort += [_num(limit), _num(reach), _num(manip)]
