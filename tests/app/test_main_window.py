@@ -117,7 +117,8 @@ def test_every_sample_cell_opens_with_table_and_problems(make_window, path):
 
 def test_problem_line_states_how_far_out_of_reach(window):
     # Outer reach of a two-link arm is a1 + a2 (law of cosines at q2 = 0; any robotics
-    # handbook, e.g. Siciliano et al., Robotics: Modelling, Planning and Control, sec. 2.12; section from memory).
+    # handbook, e.g. Siciliano et al., Robotics: Modelling, Planning and Control, sec. 2.12;
+    # section from memory).
     cell = window.document.cell
     arm = cell.arms[0]
     t = next(t for t in cell.targets if t.id == "outfeed_far")
@@ -384,7 +385,8 @@ def test_about_holds_the_full_caution(window):
 
 
 def test_hover_shows_both_configurations_and_margins(window):
-    # Closed-form two-link IK (Craig, Introduction to Robotics, 3rd ed., sec. 4.4; section from memory):
+    # Closed-form two-link IK (Craig, Introduction to Robotics, 3rd ed., sec. 4.4;
+    # section from memory):
     # c2 = (r^2 - a1^2 - a2^2) / (2 a1 a2); q1 = atan2(y, x) - atan2(a2 s2, a1 + a2 c2).
     cell = window.document.cell
     arm = cell.arms[0]

@@ -360,7 +360,10 @@ def test_problems_list_follows_the_model(qtbot):
 
 
 def _q1_both(a1: float, a2: float, x: float, y: float) -> tuple[float, float]:
-    """q1 of both configurations (Craig, Introduction to Robotics, 3rd ed., sec. 4.4; from memory)."""
+    """q1 of both configurations (Craig, Introduction to Robotics, 3rd ed., sec. 4.4).
+
+    The section number is from memory.
+    """
     c2 = (x * x + y * y - a1 * a1 - a2 * a2) / (2 * a1 * a2)
     s2 = math.sqrt(1 - c2 * c2)
     k = math.atan2(a2 * s2, a1 + a2 * c2)
