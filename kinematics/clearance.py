@@ -1,0 +1,728 @@
+"""Vectorised clearance between an arm's bodies and the fixtures that block them.
+
+Clearance is a signed distance: positive, the smallest gap between any body and any
+blocking fixture; negative, a penetration depth, measured as how deep the deepest point
+of a body reaches inside the fixture (for a capsule: its link radius plus how deep its
+centre segment reaches; for polygons: the deeper of the body's outline inside the
+fixture and the fixture's outline inside the body). Touching (clearance 0) counts as
+colliding.
+
+The work is done in numpy over arrays of poses: a bounding-box broad phase gives each
+(pose, body, fixture) pair a lower bound on its clearance, an exact narrow phase runs
+on each pose's most promising pair, and then only on pairs whose lower bound beats that
+pose's best so far. Exact segment-to-polygon distances are the smallest of the
+endpoint-to-edge and vertex-to-segment distances (zero when the segment crosses an edge
+or starts inside); the deepest point of a segment inside a polygon is found among the
+segment's ends and the points where the distances to two of the polygon's vertices or
+edge lines are equal (the maximum of a minimum of convex functions sits at such a tie).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from functools import lru_cache
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from .bodies import BASE, TOOL, ArmBodies, Body, arm_bodies, frames, link_blocking, tool_blocking
+from .cell import Arm, Fixture
+
+__all__ = [
+    "FixtureSet",
+    "PoseClearance",
+    "pose_clearance",
+    "arm_clearance",
+    "segment_polygon_distance",
+    "body_fixture_clearance",
+]
+
+
+class FixtureSet:
+    """Fixture outlines prepared for vectorised queries (grouped by vertex count).
+
+    Parameters
+    ----------
+    outlines : sequence of array_like
+        One simple polygon ``(V_k, 2)`` per fixture, world coordinates, not closed.
+    """
+
+    def __init__(self, outlines: Sequence[ArrayLike]) -> None:
+        polys = []
+        for o in outlines:
+            v = np.asarray(o, dtype=float).reshape(-1, 2)
+            if len(v) > 1 and np.array_equal(v[0], v[-1]):
+                v = v[:-1]
+            polys.append(v)
+        self.count = len(polys)
+        self.polygons: tuple[NDArray[np.float64], ...] = tuple(polys)
+        if polys:
+            lo = np.array([p.min(axis=0) for p in polys])
+            hi = np.array([p.max(axis=0) for p in polys])
+        else:
+            lo = hi = np.zeros((0, 2))
+        #: Bounding boxes ``(F, 4)``: xmin, ymin, xmax, ymax.
+        self.bbox = np.concatenate([lo, hi], axis=1)
+        # No point of a fixture is deeper inside it than half its box's smaller side.
+        self.half_min = 0.5 * np.min(hi - lo, axis=1) if polys else np.zeros(0)
+        sizes = np.array([len(p) for p in polys], dtype=np.int64)
+        convex = np.array([_is_convex(p) for p in polys], dtype=bool)
+        # Group key: vertex count, negative for non-convex outlines (general kernel).
+        keys = np.where(convex, sizes, -sizes)
+        self.keys = keys
+        self._pos = np.zeros(self.count, dtype=np.int64)
+        self._groups: dict[int, NDArray[np.float64]] = {}
+        self._xy: dict[int, tuple[NDArray, ...]] = {}
+        for key in np.unique(keys):
+            idx = np.flatnonzero(keys == key)
+            self._pos[idx] = np.arange(len(idx))
+            verts = np.stack([polys[i] for i in idx])
+            if key > 0:
+                verts = _ccw(verts)
+            self._groups[int(key)] = verts
+            self._xy[int(key)] = _edge_arrays(verts, key > 0)
+        centre = 0.5 * (lo + hi)
+        #: Bounding circles: box centres ``(F, 2)`` and radii ``(F,)``.
+        self.centre = centre
+        self.radius = np.array(
+            [np.max(np.hypot(*(p - c).T)) for p, c in zip(polys, centre)], dtype=float
+        )
+        self.centre32 = (
+            centre[None, :, 0].astype(np.float32),
+            centre[None, :, 1].astype(np.float32),
+        )
+        self.radius32 = self.radius.astype(np.float32)
+
+    @classmethod
+    def of(cls, fixtures: Sequence[Fixture]) -> FixtureSet:
+        """The prepared set for cell fixtures (cached on their outlines)."""
+        return _fixture_set(tuple(tuple(map(tuple, f.outline)) for f in fixtures))
+
+    def vertices(
+        self, idx: NDArray[np.int64]
+    ) -> list[tuple[NDArray[np.int64], NDArray[np.float64], bool]]:
+        """Rows grouped by outline kind: ``[(row positions, vertices (n, E, 2), convex), ...]``.
+
+        Convex outlines come counter-clockwise.
+        """
+        out = []
+        keys = self.keys[idx]
+        for key, verts in self._groups.items():
+            rows = np.flatnonzero(keys == key)
+            if len(rows):
+                out.append((rows, verts[self._pos[idx[rows]]], key > 0))
+        return out
+
+    def edges(self, idx: NDArray[np.int64]) -> list[tuple[NDArray[np.int64], tuple, bool]]:
+        """Like :meth:`vertices` but with edge component arrays.
+
+        Each entry holds ``(rows, (Px, Py, Qx, Qy, Nx, Ny), convex)``: edge starts and ends,
+        and for convex outlines the inward unit normals (else None), each ``(n, E)``.
+        """
+        out = []
+        keys = self.keys[idx]
+        for key, arrs in self._xy.items():
+            rows = np.flatnonzero(keys == key)
+            if len(rows):
+                pos = self._pos[idx[rows]]
+                out.append((rows, tuple(None if a is None else a[pos] for a in arrs), key > 0))
+        return out
+
+
+def _edge_arrays(verts: NDArray, convex: bool) -> tuple:
+    P = verts
+    Q = np.roll(verts, -1, axis=1)
+    if convex:
+        ex, ey = Q[..., 0] - P[..., 0], Q[..., 1] - P[..., 1]
+        length = np.hypot(ex, ey)
+        length = np.where(length > 0, length, 1.0)
+        nx, ny = -ey / length, ex / length
+    else:
+        nx = ny = None
+    return (P[..., 0].copy(), P[..., 1].copy(), Q[..., 0].copy(), Q[..., 1].copy(), nx, ny)
+
+
+def _is_convex(v: NDArray) -> bool:
+    """Whether a simple polygon is convex (collinear vertices allowed)."""
+    if len(v) < 3:
+        return False
+    e = np.roll(v, -1, axis=0) - v
+    turn = _cross(e, np.roll(e, -1, axis=0))
+    return bool(np.all(turn >= 0) or np.all(turn <= 0))
+
+
+def _ccw(verts: NDArray) -> NDArray:
+    """Polygons (n, E, 2) reordered counter-clockwise."""
+    area = np.sum(_cross(verts, np.roll(verts, -1, axis=1)), axis=1)
+    return np.where((area < 0)[:, None, None], verts[:, ::-1, :], verts)
+
+
+@lru_cache(maxsize=16)
+def _fixture_set(outlines: tuple) -> FixtureSet:
+    return FixtureSet(outlines)
+
+
+# ---------------------------------------------------------------------------------------
+# geometric kernels (rows of segments against rows of polygons)
+
+
+def _pt_seg2(x: NDArray, p: NDArray, q: NDArray) -> NDArray:
+    """Squared distance from points x to segments p-q (all broadcast)."""
+    d = q - p
+    w = x - p
+    num = np.sum(w * d, axis=-1)
+    dd = np.broadcast_to(np.sum(d * d, axis=-1), num.shape)
+    t = np.zeros(num.shape)
+    np.divide(num, dd, out=t, where=dd > 0)
+    t = np.clip(t, 0.0, 1.0)
+    e = w - t[..., None] * d
+    return np.sum(e * e, axis=-1)
+
+
+def _cross(u: NDArray, v: NDArray) -> NDArray:
+    return u[..., 0] * v[..., 1] - u[..., 1] * v[..., 0]
+
+
+def _pip(x: NDArray, V: NDArray) -> NDArray[np.bool_]:
+    """Points ``x`` (..., 2) strictly inside polygons ``V`` (..., E, 2) (even-odd rule)."""
+    Q = np.roll(V, -1, axis=-2)
+    py, qy = V[..., 1], Q[..., 1]
+    xy, xx = x[..., None, 1], x[..., None, 0]
+    cond = (py > xy) != (qy > xy)
+    dy = np.where(cond, qy - py, 1.0)
+    xint = V[..., 0] + (xy - py) * (Q[..., 0] - V[..., 0]) / dy
+    return (np.count_nonzero(cond & (xx < xint), axis=-1) % 2) == 1
+
+
+def _seg_poly(a: NDArray, b: NDArray, V: NDArray) -> tuple[NDArray, NDArray]:
+    """Squared distance from segments a-b (n, 2) to polygon regions V (n, E, 2).
+
+    Returns the squared distance (0 when they meet) and whether the segment may reach
+    inside (starts inside, properly crosses an edge, or touches).
+    """
+    Q = np.roll(V, -1, axis=1)
+    A, B = a[:, None, :], b[:, None, :]
+    d2 = np.minimum(np.minimum(_pt_seg2(A, V, Q), _pt_seg2(B, V, Q)), _pt_seg2(V, A, B))
+    dist2 = d2.min(axis=1)
+    e = Q - V
+    s = B - A
+    crossing = (_cross(e, A - V) * _cross(e, B - V) < 0) & (_cross(s, V - A) * _cross(s, Q - A) < 0)
+    scale = 1.0 + np.sum(a * a, axis=1) + np.sum(b * b, axis=1)
+    inter = crossing.any(axis=1) | _pip(a, V) | (dist2 <= 1e-24 * scale)
+    return dist2, inter
+
+
+def _seg_depth(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
+    """How deep the deepest point of segments a-b (n, 2) lies inside polygons V (n, E, 2).
+
+    Candidates are the segment ends and every parameter t where the squared distances
+    to two features (vertices, edge lines) are equal; the true distance to the outline
+    is evaluated at each candidate and the largest one inside the polygon is returned
+    (0 when no candidate is inside).
+    """
+    n, E = V.shape[:2]
+    d = b - a
+    Q = np.roll(V, -1, axis=1)
+    w = a[:, None, :] - V
+    dd = np.sum(d * d, axis=1)
+    av = np.broadcast_to(dd[:, None], (n, E))
+    bv = 2.0 * np.sum(w * d[:, None, :], axis=2)
+    cv = np.sum(w * w, axis=2)
+    e = Q - V
+    length = np.hypot(e[..., 0], e[..., 1])
+    length = np.where(length > 0, length, 1.0)
+    nrm = np.stack([-e[..., 1], e[..., 0]], axis=-1) / length[..., None]
+    alpha = np.sum(nrm * w, axis=2)
+    beta = np.sum(nrm * d[:, None, :], axis=2)
+    A = np.concatenate([av, beta * beta], axis=1)
+    B = np.concatenate([bv, 2.0 * alpha * beta], axis=1)
+    C = np.concatenate([cv, alpha * alpha], axis=1)
+    iu, ju = np.triu_indices(2 * E, 1)
+    dA, dB, dC = A[:, iu] - A[:, ju], B[:, iu] - B[:, ju], C[:, iu] - C[:, ju]
+    disc = dB * dB - 4.0 * dA * dC
+    root = np.sqrt(np.where(disc >= 0, disc, 0.0))
+    qq = -0.5 * (dB + np.where(dB >= 0, root, -root))
+    ok = (disc >= 0) & (qq != 0)
+    qs = np.where(ok, qq, 1.0)
+    t1 = np.where(ok & (dA != 0), qs / np.where(dA != 0, dA, 1.0), np.nan)
+    t2 = np.where(ok, dC / qs, np.nan)
+    ends = np.broadcast_to(np.array([0.0, 1.0]), (n, 2))
+    t = np.concatenate([ends, t1, t2], axis=1)
+    t = np.where((t >= 0) & (t <= 1), t, np.nan)
+    valid = ~np.isnan(t)
+    t = np.where(valid, t, 0.0)
+    pts = a[:, None, :] + t[..., None] * d[:, None, :]
+    f2 = _pt_seg2(pts[:, :, None, :], V[:, None, :, :], Q[:, None, :, :]).min(axis=2)
+    inside = _pip(pts, V[:, None, :, :]) & valid
+    return np.sqrt(np.max(np.where(inside, f2, 0.0), axis=1))
+
+
+def _seg_depth_convex(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
+    """:func:`_seg_depth` for convex counter-clockwise polygons.
+
+    Inside a convex polygon the distance to the outline is the smallest distance to an
+    edge line, a minimum of affine functions of t: its maximum is at an end or where two
+    of them are equal.
+    """
+    d = b - a
+    Q = np.roll(V, -1, axis=1)
+    e = Q - V
+    length = np.hypot(e[..., 0], e[..., 1])
+    length = np.where(length > 0, length, 1.0)
+    inward = np.stack([-e[..., 1], e[..., 0]], axis=-1) / length[..., None]
+    alpha = np.sum(inward * (a[:, None, :] - V), axis=2)  # (n, E) at t = 0
+    beta = np.sum(inward * d[:, None, :], axis=2)
+    E = V.shape[1]
+    iu, ju = np.triu_indices(E, 1)
+    db = beta[:, iu] - beta[:, ju]
+    tc = np.where(db != 0, (alpha[:, ju] - alpha[:, iu]) / np.where(db != 0, db, 1.0), 0.0)
+    t = np.concatenate([np.zeros((len(a), 1)), np.ones((len(a), 1)), np.clip(tc, 0.0, 1.0)], 1)
+    h = alpha[:, None, :] + t[..., None] * beta[:, None, :]
+    return np.maximum(np.max(np.min(h, axis=2), axis=1), 0.0)
+
+
+def _pt_seg2_xy(xx, xy, px, py, qx, qy):  # noqa: ANN001, ANN202 - hot path, arrays only
+    """:func:`_pt_seg2` on separate x and y arrays (no reductions over a size-2 axis)."""
+    dx = qx - px
+    dy = qy - py
+    wx = xx - px
+    wy = xy - py
+    dd = dx * dx + dy * dy
+    t = (wx * dx + wy * dy) / np.where(dd > 0, dd, 1.0)
+    np.clip(t, 0.0, 1.0, out=t)
+    ex = wx - t * dx
+    ey = wy - t * dy
+    return ex * ex + ey * ey
+
+
+def _capsule_rows(
+    ax: NDArray, ay: NDArray, bx: NDArray, by: NDArray, r: float, edges: tuple, convex: bool
+) -> NDArray:
+    """Signed distance of capsules (segment rows a-b, radius r) to fixture rows."""
+    Px, Py, Qx, Qy, Nx, Ny = edges
+    ax_, ay_, bx_, by_ = ax[:, None], ay[:, None], bx[:, None], by[:, None]
+    d2 = np.minimum(
+        np.minimum(_pt_seg2_xy(ax_, ay_, Px, Py, Qx, Qy), _pt_seg2_xy(bx_, by_, Px, Py, Qx, Qy)),
+        _pt_seg2_xy(Px, Py, ax_, ay_, bx_, by_),
+    )
+    dist2 = d2.min(axis=1)
+    ex, ey = Qx - Px, Qy - Py
+    sx, sy = bx_ - ax_, by_ - ay_
+    o1 = ex * (ay_ - Py) - ey * (ax_ - Px)
+    o2 = ex * (by_ - Py) - ey * (bx_ - Px)
+    o3 = sx * (Py - ay_) - sy * (Px - ax_)
+    o4 = sx * (Qy - ay_) - sy * (Qx - ax_)
+    crossing = ((o1 * o2 < 0) & (o3 * o4 < 0)).any(axis=1)
+    # Start point inside (even-odd ray cast towards +x).
+    cond = (Py > ay_) != (Qy > ay_)
+    xint = Px + (ay_ - Py) * (Qx - Px) / np.where(cond, Qy - Py, 1.0)
+    inside = (np.count_nonzero(cond & (ax_ < xint), axis=1) % 2) == 1
+    scale = 1.0 + ax * ax + ay * ay + bx * bx + by * by
+    inter = crossing | inside | (dist2 <= 1e-24 * scale)
+    sd = np.sqrt(dist2) - r
+    if inter.any():
+        k = np.flatnonzero(inter)
+        if convex:
+            alpha = Nx[k] * (ax_[k] - Px[k]) + Ny[k] * (ay_[k] - Py[k])
+            beta = Nx[k] * sx[k] + Ny[k] * sy[k]
+            depth = _lp_depth(alpha, beta)
+        else:
+            a = np.stack([ax[k], ay[k]], axis=1)
+            b = np.stack([bx[k], by[k]], axis=1)
+            V = np.stack([Px[k], Py[k]], axis=-1)
+            depth = _seg_depth(a, b, V)
+        sd[k] = -depth - r
+    return sd
+
+
+def _lp_depth(alpha: NDArray, beta: NDArray) -> NDArray:
+    """max over t in [0, 1] of min_e (alpha_e + beta_e t), floored at 0 (rows (n, E))."""
+    n, E = alpha.shape
+    iu, ju = np.triu_indices(E, 1)
+    db = beta[:, iu] - beta[:, ju]
+    tc = (alpha[:, ju] - alpha[:, iu]) / np.where(db != 0, db, 1.0)
+    tc = np.where(db != 0, np.clip(tc, 0.0, 1.0), 0.0)
+    t = np.concatenate([np.zeros((n, 1)), np.ones((n, 1)), tc], axis=1)
+    h = alpha[:, None, :] + t[..., None] * beta[:, None, :]
+    return np.maximum(np.max(np.min(h, axis=2), axis=1), 0.0)
+
+
+def segment_polygon_distance(
+    a: ArrayLike, b: ArrayLike, polygon: ArrayLike
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Signed distance from segments to one polygon: (distance or -depth, depth).
+
+    Parameters
+    ----------
+    a, b : array_like, shape (n, 2)
+        Segment ends (equal ends make a point).
+    polygon : array_like, shape (E, 2)
+
+    Returns
+    -------
+    signed : ndarray, shape (n,)
+        Distance from the segment to the polygon region, or minus the depth of the
+        segment's deepest point inside it.
+    depth : ndarray, shape (n,)
+        That depth (0 when the segment stays outside).
+
+    Examples
+    --------
+    >>> sq = [[0, 0], [4, 0], [4, 4], [0, 4]]
+    >>> s, _ = segment_polygon_distance([[-3, 1], [-1, 2]], [[-1, 1], [6, 2]], sq)
+    >>> s.tolist()
+    [1.0, -2.0]
+    """
+    a = np.atleast_2d(np.asarray(a, dtype=float))
+    b = np.atleast_2d(np.asarray(b, dtype=float))
+    V = np.broadcast_to(np.asarray(polygon, dtype=float), (len(a),) + np.shape(polygon))
+    dist2, inter = _seg_poly(a, b, V)
+    depth = np.zeros(len(a))
+    if inter.any():
+        depth[inter] = _seg_depth(a[inter], b[inter], V[inter])
+    signed = np.where(depth > 0, -depth, np.sqrt(dist2))
+    return signed, depth
+
+
+def _capsule_sd(a: NDArray, b: NDArray, r: float, V: NDArray, convex: bool) -> NDArray:
+    dist2, inter = _seg_poly(a, b, V)
+    sd = np.sqrt(dist2) - r
+    if inter.any():
+        depth = _seg_depth_convex if convex else _seg_depth
+        sd[inter] = -depth(a[inter], b[inter], V[inter]) - r
+    return sd
+
+
+def _polygon_sd(W: NDArray, V: NDArray, convex: bool = False) -> NDArray:
+    """Signed distance between body polygons W (n, M, 2) and fixture polygons V (n, E, 2)."""
+    n, M = W.shape[:2]
+    E = V.shape[1]
+    a = W.reshape(-1, 2)
+    b = np.roll(W, -1, axis=1).reshape(-1, 2)
+    Vr = np.repeat(V, M, axis=0)
+    dist2, inter = _seg_poly(a, b, Vr)
+    dist = np.sqrt(dist2.reshape(n, M).min(axis=1))
+    inter = inter.reshape(n, M).any(axis=1) | _pip(V[:, 0, :], W)
+    sd = dist
+    if inter.any():
+        rows = np.flatnonzero(inter)
+        Wi, Vi = W[rows], V[rows]
+        depth = _seg_depth_convex if convex else _seg_depth
+        d1 = depth(
+            Wi.reshape(-1, 2), np.roll(Wi, -1, axis=1).reshape(-1, 2), np.repeat(Vi, M, axis=0)
+        ).reshape(len(rows), M)
+        d2 = _seg_depth(
+            Vi.reshape(-1, 2), np.roll(Vi, -1, axis=1).reshape(-1, 2), np.repeat(Wi, E, axis=0)
+        ).reshape(len(rows), E)
+        sd = sd.copy()
+        sd[rows] = -np.maximum(d1.max(axis=1), d2.max(axis=1))
+    return sd
+
+
+# ---------------------------------------------------------------------------------------
+# bodies at poses
+
+
+@dataclass(frozen=True)
+class _Posed:
+    """One body at many poses: capsule ends or polygon vertices, and bounding boxes."""
+
+    body: Body
+    a: NDArray | None  # (P, 2)
+    b: NDArray | None
+    W: NDArray | None  # (P, M, 2)
+    bbox: NDArray  # (P, 4)
+    half_min: NDArray  # (P,) no fixture point is deeper inside the body than this
+
+
+def _pose_bodies(ab: ArmBodies, q: NDArray, bodies: Sequence[Body]) -> list[_Posed]:
+    origin, angle = frames(ab.arm, q)
+    out = []
+    for body in bodies:
+        o = origin[:, body.frame]
+        c, s = np.cos(angle[:, body.frame]), np.sin(angle[:, body.frame])
+        if body.kind == "capsule":
+            ax, ay = body.a
+            bx, by = body.b
+            pa = o + np.stack([c * ax - s * ay, s * ax + c * ay], axis=-1)
+            pb = o + np.stack([c * bx - s * by, s * bx + c * by], axis=-1)
+            r = body.radius
+            bbox = np.concatenate([np.minimum(pa, pb) - r, np.maximum(pa, pb) + r], axis=1)
+            out.append(_Posed(body, pa, pb, None, bbox, np.full(len(q), np.inf)))
+        else:
+            assert body.outline is not None
+            lx, ly = body.outline[:, 0], body.outline[:, 1]
+            W = o[:, None, :] + np.stack(
+                [c[:, None] * lx - s[:, None] * ly, s[:, None] * lx + c[:, None] * ly], axis=-1
+            )
+            lo, hi = W.min(axis=1), W.max(axis=1)
+            out.append(
+                _Posed(
+                    body,
+                    None,
+                    None,
+                    W,
+                    np.concatenate([lo, hi], axis=1),
+                    0.5 * np.min(hi - lo, axis=1),
+                )
+            )
+    return out
+
+
+def _exact(posed: _Posed, fs: FixtureSet, p: NDArray, f: NDArray) -> NDArray:
+    """Exact signed distances of one body at poses ``p`` to fixtures ``f`` (row pairs)."""
+    sd = np.empty(len(p))
+    if posed.body.kind == "capsule":
+        a, b = posed.a[p], posed.b[p]
+        for rows, edges, convex in fs.edges(f):
+            sd[rows] = _capsule_rows(
+                a[rows, 0], a[rows, 1], b[rows, 0], b[rows, 1], posed.body.radius, edges, convex
+            )
+    else:
+        for rows, V, convex in fs.vertices(f):
+            sd[rows] = _polygon_sd(posed.W[p[rows]], V, convex)
+    return sd
+
+
+def _lower_bounds(pb: _Posed, fs: FixtureSet, out: NDArray, slack: float) -> None:
+    """Lower bounds (P, F) on the signed distance of one posed body to every fixture."""
+    if pb.body.kind == "capsule":
+        # Segment to the fixture's bounding circle, less both radii, never below the
+        # deepest possible penetration; single precision halves the memory traffic and
+        # the slack covers its rounding.
+        r = pb.body.radius
+        f32 = np.float32
+        ax, ay = pb.a[:, 0:1].astype(f32), pb.a[:, 1:2].astype(f32)
+        wx = fs.centre32[0] - ax
+        wy = fs.centre32[1] - ay
+        if pb.body.a != pb.body.b:
+            dx, dy = pb.b[:, 0:1].astype(f32) - ax, pb.b[:, 1:2].astype(f32) - ay
+            dd = dx * dx + dy * dy
+            inv = np.divide(f32(1.0), dd, out=np.zeros_like(dd), where=dd > 0)
+            t = wx * dx
+            t += wy * dy
+            t *= inv
+            np.clip(t, f32(0.0), f32(1.0), out=t)
+            wx -= t * dx
+            wy -= t * dy
+        wx *= wx
+        wy *= wy
+        wx += wy
+        np.sqrt(wx, out=wx)
+        wx -= fs.radius32 + f32(r + slack)
+        np.maximum(wx, (-(r + slack + fs.half_min)).astype(f32), out=wx)
+        out[...] = wx
+    else:
+        fb, bb = fs.bbox, pb.bbox
+        gx = np.maximum(fb[None, :, 0] - bb[:, 2:3], bb[:, 0:1] - fb[None, :, 2])
+        gy = np.maximum(fb[None, :, 1] - bb[:, 3:4], bb[:, 1:2] - fb[None, :, 3])
+        sep = (gx > 0) | (gy > 0)
+        gap = np.hypot(np.maximum(gx, 0.0), np.maximum(gy, 0.0))
+        deep = np.maximum(pb.half_min[:, None], fs.half_min[None, :])
+        out[...] = np.where(sep, gap, -deep) - slack
+
+
+@dataclass(frozen=True)
+class PoseClearance:
+    """Clearance of an arm at a batch of poses (shape ``S``).
+
+    Attributes
+    ----------
+    clearance : ndarray of float
+        Smallest signed distance to a blocking fixture (negative = penetration depth);
+        +inf when nothing blocks, NaN for poses given as NaN (out of reach).
+    collides : ndarray of bool
+        ``clearance <= 0``.
+    fixture : ndarray of int
+        Index (into the fixtures given) of the fixture attaining the clearance, -1 when none.
+    body : ndarray of int
+        Index into ``ArmBodies.bodies`` of the body attaining it, -1 when none.
+    """
+
+    clearance: NDArray[np.float64]
+    collides: NDArray[np.bool_]
+    fixture: NDArray[np.int64]
+    body: NDArray[np.int64]
+
+
+def pose_clearance(
+    bodies: ArmBodies,
+    fixtures: FixtureSet,
+    q_deg: ArrayLike,
+    link_mask: ArrayLike,
+    tool_mask: ArrayLike | None = None,
+) -> PoseClearance:
+    """Clearance of the arm's bodies at poses ``q_deg`` against the blocking fixtures.
+
+    Parameters
+    ----------
+    bodies : ArmBodies
+    fixtures : FixtureSet
+    q_deg : array_like, shape S + (2,)
+        Joint angles in degrees; rows with NaN give NaN clearance.
+    link_mask : array_like of bool, shape (F,)
+        Fixtures blocking the links and the base (:func:`kinematics.bodies.link_blocking`).
+    tool_mask : array_like of bool, shape (F,) or S + (F,), optional
+        Fixtures blocking the tool (:func:`kinematics.bodies.tool_blocking`); default
+        ``link_mask``.
+
+    Returns
+    -------
+    PoseClearance
+    """
+    q = np.asarray(q_deg, dtype=float)
+    shape = q.shape[:-1]
+    q = q.reshape(-1, 2)
+    n_all = len(q)
+    F = fixtures.count
+    link_mask = np.asarray(link_mask, dtype=bool).reshape(F)
+    tmask = link_mask if tool_mask is None else np.asarray(tool_mask, dtype=bool)
+    if tmask.ndim > 1 and (tmask == tmask.reshape(-1, F)[:1]).all():
+        tmask = tmask.reshape(-1, F)[0]  # one mask for all poses: skip per-pose indexing
+    if tmask.ndim > 1:
+        tmask = np.broadcast_to(tmask, shape + (F,)).reshape(n_all, F)
+    best = np.full(n_all, np.inf)
+    best_f = np.full(n_all, -1, dtype=np.int64)
+    best_b = np.full(n_all, -1, dtype=np.int64)
+    valid = np.isfinite(q).all(axis=1)
+    moving = [k for k, b in enumerate(bodies.bodies) if b.frame != BASE]
+    static = [k for k, b in enumerate(bodies.bodies) if b.frame == BASE]
+
+    # The base never moves: one exact pass over its blocking fixtures serves every pose.
+    for k in static:
+        fidx = np.flatnonzero(link_mask)
+        if len(fidx) == 0:
+            continue
+        (posed,) = _pose_bodies(bodies, q[:1] * 0.0, [bodies.bodies[k]])
+        sd = _exact(posed, fixtures, np.zeros(len(fidx), dtype=np.int64), fidx)
+        j = int(np.argmin(sd))
+        better = valid & (sd[j] < best)
+        best[better], best_f[better], best_b[better] = sd[j], fidx[j], k
+
+    vidx = np.flatnonzero(valid)
+    if F and moving and len(vidx):
+        qv = q[vidx]
+        P = len(vidx)
+        posed = _pose_bodies(bodies, qv, [bodies.bodies[k] for k in moving])
+        nb = len(moving)
+        # Allowance for single-precision rounding in the broad phase (cell units).
+        arm = bodies.arm
+        span = max(float(np.max(np.abs(fixtures.bbox))), abs(arm.x) + abs(arm.y))
+        span += 2.0 * (arm.reach_max + max(b.extent for b in bodies.bodies))
+        slack = 1e-5 * (span + 1.0)
+        lb = np.empty((nb, P, F), dtype=np.float32)
+        for j, pb in enumerate(posed):
+            _lower_bounds(pb, fixtures, lb[j], slack)
+            if pb.body.frame != TOOL:
+                mask = link_mask[None, :]
+            else:
+                mask = tmask[vidx] if tmask.ndim > 1 else tmask[None, :]
+            if not mask.all():
+                np.copyto(lb[j], np.inf, where=~mask)
+        # Pass 1: each pose's most promising pair gives an upper bound on its clearance.
+        arg_f = np.argmin(lb, axis=2)  # (nb, P)
+        val = np.take_along_axis(lb, arg_f[..., None], axis=2)[..., 0]
+        first_b = np.argmin(val, axis=0)
+        ar = np.arange(P)
+        first_f = arg_f[first_b, ar]
+        has = np.isfinite(val[first_b, ar])
+        cur = np.full(P, np.inf)
+        for j in range(nb):
+            sel = np.flatnonzero(has & (first_b == j))
+            if len(sel):
+                cur[sel] = _exact(posed[j], fixtures, sel, first_f[sel])
+        cur_b = np.where(has, first_b, -1)
+        cur_f = np.where(has, first_f, -1)
+        ub = np.minimum(best[vidx], cur)
+        # Pass 2: only pairs whose lower bound beats the pose's best so far.
+        lb[first_b, ar, first_f] = np.inf
+        cb, cp, cf = np.nonzero(lb < ub.astype(np.float32)[None, :, None])
+        if len(cp):
+            sd2 = np.empty(len(cp))
+            for j in range(nb):
+                sel = np.flatnonzero(cb == j)
+                if len(sel):
+                    sd2[sel] = _exact(posed[j], fixtures, cp[sel], cf[sel])
+            order = np.lexsort((sd2, cp))
+            cp_s = cp[order]
+            head = np.ones(len(cp_s), dtype=bool)
+            head[1:] = cp_s[1:] != cp_s[:-1]
+            pick = order[head]
+            hp = cp[pick]
+            better = sd2[pick] < cur[hp]
+            hp, pick = hp[better], pick[better]
+            cur[hp] = sd2[pick]
+            cur_b[hp] = cb[pick]
+            cur_f[hp] = cf[pick]
+        take = cur < best[vidx]
+        tv = vidx[take]
+        best[tv] = cur[take]
+        best_f[tv] = cur_f[take]
+        best_b[tv] = np.asarray(moving)[cur_b[take]]
+
+    best = np.where(valid, best, np.nan)
+    with np.errstate(invalid="ignore"):
+        collides = best <= 0.0
+    return PoseClearance(
+        clearance=best.reshape(shape),
+        collides=collides.reshape(shape),
+        fixture=best_f.reshape(shape),
+        body=best_b.reshape(shape),
+    )
+
+
+def arm_clearance(
+    arm: Arm,
+    fixtures: Sequence[Fixture],
+    q_deg: ArrayLike,
+    work_height: ArrayLike = np.nan,
+    margin: float = 0.0,
+    bodies: ArmBodies | None = None,
+) -> PoseClearance:
+    """:func:`pose_clearance` for a cell arm and cell fixtures with the 2.5-D rule applied.
+
+    Parameters
+    ----------
+    arm : Arm
+    fixtures : sequence of Fixture
+    q_deg : array_like, shape S + (2,)
+    work_height : array_like, shape broadcastable to S
+        Work height of the tool per pose, NaN where none is given.
+    margin : float
+        The cell's vertical clearance margin.
+    bodies : ArmBodies, optional
+        Prebuilt bodies (default: :func:`kinematics.bodies.arm_bodies`).
+
+    Examples
+    --------
+    A 40 x 40 column centred 300 along the x axis; links of radius 20. With link 1 along
+    the x axis its centre line runs through the column's centre, 20 from every side, so
+    the penetration is 20 + 20; turned to 90 degrees the gap is 280 - 20.
+
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150), link_radii=(20, 20))
+    >>> col = Fixture("c", "Column", "column", ((280, -20), (320, -20), (320, 20), (280, 20)))
+    >>> res = arm_clearance(arm, [col], [[90.0, 90.0], [0.0, 90.0]])
+    >>> res.clearance.round(9).tolist(), res.collides.tolist(), res.body.tolist()
+    ([260.0, -40.0], [False, True], [0, 0])
+    """
+    ab = bodies if bodies is not None else arm_bodies(arm)
+    q = np.asarray(q_deg, dtype=float)
+    fs = FixtureSet.of(fixtures)
+    lm = link_blocking(arm, fixtures, margin)
+    wh = np.broadcast_to(np.asarray(work_height, dtype=float), q.shape[:-1])
+    tm = tool_blocking(arm, fixtures, margin, wh) if ab.has_tool else None
+    return pose_clearance(ab, fs, q, lm, tm)
+
+
+def body_fixture_clearance(shape_a: ArrayLike, shape_b: ArrayLike) -> float:
+    """Signed distance between two simple polygons (body and fixture), as defined above.
+
+    Examples
+    --------
+    >>> body_fixture_clearance([[0, 0], [1, 0], [1, 1], [0, 1]], [[3, 0], [4, 0], [4, 1]])
+    2.0
+    """
+    W = np.asarray(shape_a, dtype=float)[None]
+    V = np.asarray(shape_b, dtype=float)[None]
+    return float(_polygon_sd(W, V)[0])
