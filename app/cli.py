@@ -3,7 +3,8 @@
 ``elbowroom [CELL]`` opens the window (no argument: the bundled default cell);
 ``elbowroom check CELL [--json]`` prints the reach report without a window.
 Exit status of ``check``: 0 when every target is feasible, 1 when some are not,
-2 when the file or the arguments cannot be used (one line on stderr).
+2 when the file or the arguments cannot be used or the report cannot be written
+(one line on stderr).
 """
 
 from __future__ import annotations
@@ -65,6 +66,45 @@ def _load(path: Path):
         return None
 
 
+def _silence_stdout() -> None:
+    # Python flushes stdout again at exit; point it at devnull so that flush cannot fail too.
+    try:
+        fd = os.open(os.devnull, os.O_WRONLY)
+        try:
+            os.dup2(fd, sys.stdout.fileno())
+        finally:
+            os.close(fd)
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
+def _stdout_encodes(text: str) -> bool:
+    try:
+        text.encode(getattr(sys.stdout, "encoding", None) or "utf-8")
+    except (UnicodeEncodeError, LookupError):
+        return False
+    return True
+
+
+def _write_out(text: str) -> bool:
+    """Write to stdout; on failure (closed pipe, full disk) say so in one line, return False."""
+    if not _stdout_encodes(text):
+        # A terminal that cannot show some names (e.g. LC_ALL=C) gets them escaped, not a crash.
+        text = text.encode("ascii", "backslashreplace").decode("ascii")
+    try:
+        sys.stdout.write(text)
+        sys.stdout.flush()
+    except OSError as exc:
+        if isinstance(exc, BrokenPipeError):
+            reason = "the reading end of the pipe was closed"
+        else:
+            reason = exc.strerror or str(exc) or type(exc).__name__
+        sys.stderr.write(f"elbowroom check: could not write the report ({reason})\n")
+        _silence_stdout()
+        return False
+    return True
+
+
 def _run_check(path: Path, as_json: bool) -> int:
     from kinematics.report import check_report, format_check_table
 
@@ -74,9 +114,13 @@ def _run_check(path: Path, as_json: bool) -> int:
     report = check_report(cell)
     report["file"] = path.name
     if as_json:
-        sys.stdout.write(json.dumps(report, indent=2, ensure_ascii=False) + "\n")
+        text = json.dumps(report, indent=2, ensure_ascii=False) + "\n"
+        if not _stdout_encodes(text):
+            text = json.dumps(report, indent=2) + "\n"  # same data, \u escapes
     else:
-        sys.stdout.write(format_check_table(report) + "\n")
+        text = format_check_table(report) + "\n"
+    if not _write_out(text):
+        return EXIT_UNUSABLE
     return EXIT_OK if report["summary"]["infeasible"] == 0 else EXIT_INFEASIBLE
 
 
@@ -104,9 +148,11 @@ def main(argv: list[str] | None = None) -> int:
 
     path = ns.cell if ns.cell is not None else default_cell_path()
     if ns.screenshot is None and not has_display():
-        print(
+        notice = (
             f"No display available: printing the check report of {path.name} instead of a window."
         )
+        if not _write_out(notice + "\n"):
+            return EXIT_UNUSABLE
         code = _run_check(path, as_json=False)
         # The report's findings are not a failure of the run.
         return EXIT_UNUSABLE if code == EXIT_UNUSABLE else EXIT_OK

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import errno
+import io
 import json
 import math
 import subprocess
@@ -208,3 +210,49 @@ def test_console_script_runs_headless_without_display(tmp_path):
     assert "No display" in first
     assert "targets feasible" in proc.stdout
     assert load_cell(ROOT / "sample_cells" / "tray_loading.cell.json").name in proc.stdout
+
+
+class _FailingStdout(io.StringIO):
+    """A stdout whose writes fail like a full disk or a closed pipe."""
+
+    def __init__(self, exc: OSError) -> None:
+        super().__init__()
+        self.exc = exc
+
+    def write(self, text: str) -> int:
+        raise self.exc
+
+
+@pytest.mark.parametrize(
+    "exc, reason",
+    [
+        (OSError(errno.ENOSPC, "No space left on device"), "No space left on device"),
+        (BrokenPipeError(errno.EPIPE, "Broken pipe"), "pipe was closed"),
+    ],
+)
+def test_report_that_cannot_be_written_exits_2_with_one_line(monkeypatch, capsys, exc, reason):
+    sample = ROOT / "sample_cells" / "tray_loading.cell.json"
+    monkeypatch.setattr(sys, "stdout", _FailingStdout(exc))
+    code = main(["check", str(sample), "--json"])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.count("\n") == 1 and reason in err and "Traceback" not in err
+
+
+def test_ascii_only_stdout_gets_escaped_json_with_the_same_data(tmp_path, monkeypatch, capsys):
+    cell = Cell(
+        "Zelle für Träger ✓", arms=(EXAM_ARM,), targets=(Target("p", "P", -200, 400, "exam"),)
+    )
+    path = tmp_path / "u.cell.json"
+    save_cell(cell, path)
+    raw = io.BytesIO()
+    monkeypatch.setattr(sys, "stdout", io.TextIOWrapper(raw, encoding="ascii"))
+    code = main(["check", str(path), "--json"])
+    sys.stdout.flush()
+    assert code == 0
+    assert json.loads(raw.getvalue().decode("ascii"))["cell"] == "Zelle für Träger ✓"
+    raw.seek(0)
+    raw.truncate()
+    assert main(["check", str(path)]) == 0
+    sys.stdout.flush()
+    assert "Zelle f\\xfcr Tr\\xe4ger \\u2713" in raw.getvalue().decode("ascii")
