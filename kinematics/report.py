@@ -129,6 +129,11 @@ def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[s
     }
 
 
+def _plain(text: str) -> str:
+    # Names come from the file: a newline or terminal escape must not break the table.
+    return "".join(c if c.isprintable() else f"\\u{ord(c):04x}" for c in text)
+
+
 def _fmt(v: float | None, nd: int = 1) -> str:
     return "-" if v is None else f"{v:.{nd}f}"
 
@@ -136,10 +141,10 @@ def _fmt(v: float | None, nd: int = 1) -> str:
 def format_check_table(report: dict[str, Any]) -> str:
     """Render a report as a plain-text table for the terminal."""
     u = report["units"]
-    lines = [f"Cell: {report['cell']}   (lengths in {u}, angles in degrees)", ""]
+    lines = [f"Cell: {_plain(report['cell'])}   (lengths in {u}, angles in degrees)", ""]
     for a in report["arms"]:
         lines.append(
-            f"Arm {a['id']} ({a['name']}): "
+            f"Arm {_plain(a['id'])} ({_plain(a['name'])}): "
             f"reach {_fmt(a['reach_min'])}..{_fmt(a['reach_max'])} {u}, "
             f"reachable area {_fmt(a['reachable_area'], 0)} {u}^2, "
             f"both configurations {_fmt(a['both_elbows_area'], 0)} {u}^2"
@@ -169,8 +174,8 @@ def format_check_table(report: dict[str, Any]) -> str:
         rows.append(
             (
                 "ok" if t["feasible"] else "XX",
-                t["id"],
-                t["arm"],
+                _plain(t["id"]),
+                _plain(t["arm"]),
                 "reach" if t["feasible"] else "FAIL",
                 t["chosen_elbow"] or "-",
                 _fmt(sol["q_deg"][0]) if sol else "-",
@@ -193,7 +198,11 @@ def format_check_table(report: dict[str, Any]) -> str:
     lines += [
         "",
         f"{s['feasible']} of {s['targets']} targets feasible"
-        + (f"; failing: {', '.join(s['infeasible_ids'])}" if s["infeasible_ids"] else ""),
+        + (
+            f"; failing: {', '.join(_plain(i) for i in s['infeasible_ids'])}"
+            if s["infeasible_ids"]
+            else ""
+        ),
         "",
         f"CAUTION: {s['caution']}",
     ]

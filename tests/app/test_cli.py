@@ -256,3 +256,25 @@ def test_ascii_only_stdout_gets_escaped_json_with_the_same_data(tmp_path, monkey
     assert main(["check", str(path)]) == 0
     sys.stdout.flush()
     assert "Zelle f\\xfcr Tr\\xe4ger \\u2713" in raw.getvalue().decode("ascii")
+
+
+def test_table_keeps_one_line_per_target_whatever_the_names_hold(tmp_path, capsys):
+    # Ids come from the file: a newline or a terminal escape in one must not break the table.
+    arm = Arm("a\x1b[2J", "Arm\rname", 0.0, 0.0, 0.0, 400.0, 250.0, (0.0, 180.0), (-120.0, 120.0))
+    cell = Cell(
+        "cell\nname",
+        arms=(arm,),
+        targets=(
+            Target("far\nout", "F", 480.0, 480.0, arm.id),
+            Target("ok", "O", -200.0, 400.0, arm.id),
+        ),
+    )
+    path = tmp_path / "c.cell.json"
+    save_cell(cell, path)
+    code, out, _ = run_check(capsys, str(path))
+    assert code == 1
+    assert "\x1b" not in out and "\r" not in out
+    rows = [line for line in out.splitlines() if line.startswith(("ok ", "XX "))]
+    assert len(rows) == 2
+    assert "far\\u000aout" in rows[0] and "beyond outer reach" in rows[0]
+    assert "failing: far\\u000aout" in out
