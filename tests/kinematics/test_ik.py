@@ -15,6 +15,13 @@ from kinematics.ik import ELBOWS, Status, solve
 POS, NEG = 0, 1
 
 
+def sympy_r(p: int, q: int):
+    """An exact rational, so the sympy reference sees the exact target."""
+    import sympy as sp
+
+    return sp.Rational(p, q)
+
+
 # --- Worked examples (values copied with their sources; angles in degrees) -------------------
 
 # Numerical-methods textbook exercise (two-link arm, Newton's method; "Fig. 4.8"), as posted on
@@ -69,7 +76,24 @@ def test_exam_example_both_within_limits():
     assert r.within_limits.all()
     # Chosen: the larger limit margin. Positive: min(82.82, 97.18, 23.54 to q2 limit) = 23.54;
     # negative: min(150.31, 29.69, 23.54) = 23.54: a tie goes to "positive".
-    assert int(r.chosen) in (POS, NEG)
+    np.testing.assert_allclose(r.limit_margin_deg, [23.54, 23.54], atol=5e-3)
+    assert int(r.chosen) == POS
+
+
+def test_chosen_configuration_has_the_larger_limit_margin():
+    # Textbook exercise (see TEXTBOOK) with the shoulder limited to 0..120: positive q1 = 4.637
+    # is 4.637 from its limit, negative q1 = 53.861 is 53.861 from it (q2 = -36.631 has 143.4).
+    t = TEXTBOOK
+    r = solve(t["a1"], t["a2"], t["x"], t["y"], q1_limits=(0.0, 120.0))
+    np.testing.assert_allclose(r.limit_margin_deg, [4.637, 53.861], atol=1e-3)
+    assert bool(r.feasible) and int(r.chosen) == NEG
+    # Shoulder limited to -60..60 instead: 53.861 is 6.139 from 60, 4.637 is 55.363 from it.
+    r = solve(t["a1"], t["a2"], t["x"], t["y"], q1_limits=(-60.0, 60.0))
+    np.testing.assert_allclose(r.limit_margin_deg, [55.363, 6.139], atol=1e-3)
+    assert int(r.chosen) == POS
+    # An arm that may only use "negative" takes it even with the smaller margin.
+    r = solve(t["a1"], t["a2"], t["x"], t["y"], q1_limits=(-60.0, 60.0), elbow="negative")
+    assert bool(r.feasible) and int(r.chosen) == NEG
 
 
 def test_exam_example_out_of_reach():
@@ -219,6 +243,35 @@ def test_closed_form_satisfies_forward_equations_symbolically():
         assert sp.simplify(k1**2 + k2**2 - r2) == 0
         assert sp.simplify((fx - x).subs(kk, rr)) == 0
         assert sp.simplify((fy - y).subs(kk, rr)) == 0
+
+    # The code takes |sin q2| from the factored form sqrt((rmax^2 - r^2)(r^2 - rmin^2)) / (2 a1 a2)
+    # for accuracy near the circles: it equals sqrt(1 - cos^2 q2) identically.
+    factored_sq = ((a1 + a2) ** 2 - r2) * (r2 - (a1 - a2) ** 2) / (2 * a1 * a2) ** 2
+    assert sp.expand(factored_sq - (1 - c2**2)) == 0
+
+
+@pytest.mark.parametrize(
+    "a1,a2,x,y",
+    [
+        (sympy_r(7, 10), sympy_r(9, 20), sympy_r(-3, 10), sympy_r(4, 5)),
+        (1, 2, sympy_r(5, 2), sympy_r(7, 5)),
+        (400, 250, -200, 400),
+        (300, 300, sympy_r(-1201, 10), 410),
+    ],
+)
+def test_solution_matches_sympy_closed_form_to_30_digits(a1, a2, x, y):
+    # sympy as reference library: the closed form evaluated in exact arithmetic, then to 30
+    # digits, against the code's floating-point answer (both configurations).
+    import sympy as sp
+
+    a1, a2, x, y = (sp.Rational(v) for v in (a1, a2, x, y))
+    q2 = sp.acos((x**2 + y**2 - a1**2 - a2**2) / (2 * a1 * a2))
+    ours = solve(float(a1), float(a2), float(x), float(y)).q_deg
+    for k, sign in ((POS, 1), (NEG, -1)):
+        q2k = sign * q2
+        q1 = sp.atan2(y, x) - sp.atan2(a2 * sp.sin(q2k), a1 + a2 * sp.cos(q2k))
+        want = [float(sp.N(sp.deg(q1), 30)), float(sp.N(sp.deg(q2k), 30))]
+        np.testing.assert_allclose(ours[k], want, rtol=0, atol=1e-10)
 
 
 # --- scipy.optimize.least_squares from many starts finds both solutions and no others ----------
