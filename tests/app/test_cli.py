@@ -14,7 +14,7 @@ import pytest
 
 from app.cli import main
 from kinematics.cell import Arm, Cell, Target
-from kinematics.cellfile import load_cell, save_cell
+from kinematics.cellfile import MAX_FILE_BYTES, load_cell, save_cell
 
 ROOT = Path(__file__).resolve().parents[2]
 SAMPLES = sorted((ROOT / "sample_cells").glob("*.cell.json"))
@@ -126,6 +126,13 @@ BAD_FILES = {
     "wide limits": (None, "joint_limits_deg[0]"),
     "min >= max": (None, "joint_limits_deg[1]"),
     "missing key": (None, "name"),
+    "wrong type": (None, "targets[0].x"),
+    "infinity": (None, "arms[0].base.x"),
+    "duplicate key": (None, "units: key appears 2 times"),
+    "two-point outline": (None, "fixtures[0].outline"),
+    "unknown target in sequence": (None, "sequences[0].targets[1]"),
+    "too deep": ("[" * 5000 + "]" * 5000, "nested too deeply"),
+    "too big": (None, "larger than"),
 }
 
 
@@ -157,6 +164,19 @@ def _bad_text(kind: str, good: dict) -> str:
         d["arms"][0]["joint_limits_deg"][1] = [120, -120]
     elif kind == "missing key":
         del d["name"]
+    elif kind == "wrong type":
+        d["targets"][0]["x"] = "450"
+    elif kind == "infinity":
+        return json.dumps(d, indent=2).replace('"x": 0,', '"x": Infinity,', 1)
+    elif kind == "duplicate key":
+        return json.dumps(d, indent=2).replace('"units": "mm"', '"units": "mm", "units": "in"')
+    elif kind == "two-point outline":
+        d["fixtures"] = [{"id": "f", "name": "F", "kind": "guard", "outline": [[0, 0], [9, 0]]}]
+    elif kind == "unknown target in sequence":
+        d["sequences"] = [{"arm": "exam", "targets": ["a", "ghost"]}]
+    elif kind == "too big":
+        # Valid JSON, padded past the size cap with an extra key.
+        d["padding"] = " " * (MAX_FILE_BYTES + 10)
     return json.dumps(d, indent=2)
 
 
