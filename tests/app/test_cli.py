@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import errno
 import io
 import json
@@ -298,3 +299,36 @@ def test_table_keeps_one_line_per_target_whatever_the_names_hold(tmp_path, capsy
     assert len(rows) == 2
     assert "far\\u000aout" in rows[0] and "beyond outer reach" in rows[0]
     assert "failing: far\\u000aout" in out
+
+
+def test_reasons_and_reach_margin_through_the_command(tmp_path, capsys):
+    # Reach annulus |a1 - a2| <= r <= a1 + a2 (standard closed form; check-values.md) and the
+    # exam problem's angles (Q&A archive): (450, 180) fits only "negative"; (-200, 400) needs
+    # |q2| = 96.46, past a +-80 elbow limit by 16.46 in both configurations.
+    only_pos = dataclasses.replace(EXAM_ARM, id="pos", elbow="positive")
+    short_elbow = dataclasses.replace(EXAM_ARM, id="short", q2_limits=(-80.0, 80.0))
+    cell = Cell(
+        "reasons",
+        arms=(EXAM_ARM, only_pos, short_elbow),
+        targets=(
+            Target("hole", "H", 100.0, 0.0, "exam"),
+            Target("excl", "E", 450.0, 180.0, "pos"),
+            Target("q2", "Q", -200.0, 400.0, "short"),
+        ),
+    )
+    path = tmp_path / "r.cell.json"
+    save_cell(cell, path)
+    code, out, _ = run_check(capsys, str(path), "--json")
+    by_id = {t["id"]: t for t in json.loads(out)["targets"]}
+    assert code == 1
+    hole = by_id["hole"]
+    assert hole["reach_margin"] == pytest.approx(100.0 - 150.0)
+    assert hole["reason"] == "inside the inner hole by 50.0 mm" and hole["solutions"] == []
+    excl = by_id["excl"]
+    assert excl["reason"] == "excluded by the arm's elbow setting (only negative fits)"
+    assert excl["chosen_elbow"] is None and len(excl["solutions"]) == 2
+    r = math.hypot(450.0, 180.0)
+    assert excl["reach_margin"] == pytest.approx(min(650.0 - r, r - 150.0))
+    q2 = by_id["q2"]
+    assert q2["reason"] == "q2 limit by 16.5 deg"
+    assert [s["limit_margin_deg"] for s in q2["solutions"]] == pytest.approx([-16.46] * 2, abs=5e-3)
