@@ -22,7 +22,8 @@ REGION_TOL_MM = 0.05
 
 def _num(v: float, nd: int = 6) -> float | None:
     v = float(v)
-    return None if not math.isfinite(v) else round(v, nd)
+    # + 0.0 turns -0.0 (float noise rounded away) into 0.0, so reports never show "-0.0".
+    return None if not math.isfinite(v) else round(v, nd) + 0.0
 
 
 def _solutions(ev: ArmEvaluation, i: int) -> list[dict[str, Any]]:

@@ -332,3 +332,14 @@ def test_reasons_and_reach_margin_through_the_command(tmp_path, capsys):
     q2 = by_id["q2"]
     assert q2["reason"] == "q2 limit by 16.5 deg"
     assert [s["limit_margin_deg"] for s in q2["solutions"]] == pytest.approx([-16.46] * 2, abs=5e-3)
+
+
+def test_report_never_shows_negative_zero(tmp_path, capsys):
+    # Float noise below the printed precision must not turn into "-0.0" in the report.
+    cell = Cell("z", arms=(EXAM_ARM,), targets=(Target("t", "T", 650.0, -1e-9, "exam"),))
+    path = tmp_path / "z.cell.json"
+    save_cell(cell, path)
+    code, out, _ = run_check(capsys, str(path), "--json")
+    assert code == 0 and "-0.0" not in out
+    t = json.loads(out)["targets"][0]
+    assert t["solutions"][0]["singular"] and t["solutions"][0]["q_deg"] == [0.0, 0.0]
