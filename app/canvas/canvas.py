@@ -15,7 +15,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, Signal
 from PySide6.QtGui import QAction, QActionGroup, QCursor, QPainterPath, QPen
-from PySide6.QtWidgets import QGraphicsPathItem, QHBoxLayout, QMenu, QWidget
+from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QHBoxLayout, QMenu, QWidget
 
 from app import style
 from app.document import Changes, Document
@@ -28,7 +28,10 @@ from . import dialogs, edits
 from .items import (
     ArmItem,
     FixtureItem,
+    Grid,
     LabelsItem,
+    MarkersItem,
+    PlanView,
     ScaleBar,
     geometry_path,
     polygon_path,
@@ -37,7 +40,7 @@ from .items import (
 )
 from .legend import LegendEntry, LegendWidget
 from .picking import Hit, pick, pick_target
-from .qtstyle import ELBOW_COLOURS, OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
+from .qtstyle import ELBOW_COLOURS, OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look, mixed
 from .snapping import (
     Anchors,
     SnapResult,
@@ -73,10 +76,11 @@ ANGLE_STEP = 5.0  # heading snap step, degrees
 # Ghost roles: the chosen pose, the other configuration when it also works, and
 # the other configuration when it exists but breaks a limit or the elbow setting.
 GHOST_ROLES = ("chosen", "alternative", "blocked")
+# One-pixel opaque pens: the fast path of Qt's stroker (wide or translucent is ~10x slower).
 _GHOST_PENS = {
-    "chosen": ("solid", 2.2, 0.9),
-    "alternative": ("dash", 1.4, 0.85),
-    "blocked": ("dot", 1.2, 0.55),
+    "chosen": ("solid", 1.0, 1.0),
+    "alternative": ("dash", 1.0, 0.9),
+    "blocked": ("dot", 1.0, 0.6),
 }
 
 _UNITS_WORD = {"mm": "mm", "in": "in"}
@@ -139,17 +143,18 @@ class CellCanvas(QWidget):
         self._snap_pitch = 10.0
         self._evals: dict[str, ArmEvaluation] = {}
         self._regions: dict[str, _Regions] = {}
+        self._reason_cache: dict[str, tuple[ArmEvaluation, list[str], bool]] = {}
         self._overlay_items: dict[tuple[str, str], QGraphicsPathItem] = {}
         self._overlay_version: dict[tuple[str, str], int] = {}
         self._ghost_items: dict[tuple[str, int, str], QGraphicsPathItem] = {}
         self._fixture_items: dict[str, FixtureItem] = {}
         self._arm_items: dict[str, ArmItem] = {}
-        self._scatter_cache: dict[int, np.ndarray] = {}
         self._names_key: tuple | None = None
         self._names: dict[str, str] = {}
         self._target_xy = np.zeros((0, 2))
         self._target_ids: list[str] = []
         self._hover = ""
+        self._shown_selection: set[str] = {"\0"}  # forces the first refresh
         self._drag: _Drag | None = None
         self._swallow_until_release = False
         self._empty_press: QPointF | None = None
@@ -163,14 +168,13 @@ class CellCanvas(QWidget):
         self.ask_name = dialogs.ask_name
 
         pg.setConfigOptions(antialias=True)
-        self.plot = pg.PlotWidget(background=style.PAPER)
+        self.plot = PlanView(background=style.PAPER)
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()
         self.plot.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
         self.vb: pg.ViewBox = self.plot.getViewBox()
         self.vb.setAspectLocked(True, ratio=1.0)
         self.vb.disableAutoRange()
-        self.plot.showGrid(x=True, y=True, alpha=0.22)
         self._units = document.cell.units
         for name in ("bottom", "left"):
             ax = self.plot.getAxis(name)
@@ -178,6 +182,9 @@ class CellCanvas(QWidget):
             ax.setPen(cosmetic_pen(style.INK, 1.0))
             ax.setTextPen(cosmetic_pen(style.INK, 1.0))
         self._label_axes()
+        for name in ("bottom", "left"):
+            # Axes only change with the view range; keep them as pixmaps between changes.
+            self.plot.getAxis(name).setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.legend = LegendWidget()
 
         lay = QHBoxLayout(self)
@@ -186,18 +193,10 @@ class CellCanvas(QWidget):
         lay.addWidget(self.plot, 1)
         lay.addWidget(self.legend, 0)
 
-        self._target_scatter: dict[int, pg.ScatterPlotItem] = {}
-        for st in Status:
-            ss = style.status_style(st)
-            sc = pg.ScatterPlotItem(
-                size=12 if st is Status.OK else 13,
-                symbol=ss.symbol,
-                pen=pg.mkPen(style.INK, width=1.0),
-                brush=pg.mkBrush(colour(ss.colour)),
-                pxMode=True,
-            )
-            self._add(sc, Z_TARGET)
-            self._target_scatter[int(st)] = sc
+        self.markers = MarkersItem(
+            {int(st): (ss.symbol, ss.colour) for st, ss in style.STATUS_STYLES.items()}
+        )
+        self._add(self.markers, Z_TARGET)
         self._select_scatter = pg.ScatterPlotItem(
             size=24,
             symbol="o",
@@ -224,6 +223,10 @@ class CellCanvas(QWidget):
         )
         self._add(self._snap_marker, Z_TOOL)
         self.scale_bar = ScaleBar(self.vb, self._units)
+        self.scale_bar.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
+        self.grid = Grid(
+            self.plot, self.vb, (self.plot.getAxis("bottom"), self.plot.getAxis("left"))
+        )
 
         self._actions: dict[str, QAction] = {}
         self._build_actions()
@@ -340,9 +343,10 @@ class CellCanvas(QWidget):
         if self._drag is not None:
             was_active = self._drag.active
             self._drag = None
-            self._snap_marker.setData([])
+            self._hide_snap()
             if was_active:
                 self.document.cancel_preview()
+                self._refresh_targets()
                 self._swallow_until_release = True
                 self.status_message.emit("Move cancelled")
             return
@@ -425,9 +429,11 @@ class CellCanvas(QWidget):
         self.plot.setLabel("bottom", f"x ({u})")
         self.plot.setLabel("left", f"y ({u})")
 
-    def _add(self, item, z: float) -> None:
+    def _add(self, item, z: float, cache: bool = False) -> None:
         self.vb.addItem(item, ignoreBounds=True)
         item.setZValue(z)
+        if cache:
+            item.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
 
     def _remove(self, item) -> None:
         self.vb.removeItem(item)
@@ -445,20 +451,21 @@ class CellCanvas(QWidget):
         for f in cell.fixtures:
             item = FixtureItem(f.kind, fixture_look(f.kind))
             item.set_outline(f.outline)
-            self._add(item, Z_FIXTURE)
+            self._add(item, Z_FIXTURE, cache=True)
             self._fixture_items[f.id] = item
         for item in self._arm_items.values():
             self._remove(item)
         self._arm_items.clear()
         for i, a in enumerate(cell.arms):
             item = ArmItem(style.arm_colour(i))
-            self._add(item, Z_ARM)
+            self._add(item, Z_ARM, cache=True)
             self._arm_items[a.id] = item
             self._update_arm_item(a.id)
         self._evals = {a.id: evaluate_arm(a, cell.targets_of(a.id)) for a in cell.arms}
         self._refresh_targets()
         self._refresh_overlays()
         self._refresh_ghosts()
+        self._shown_selection = {"\0"}  # new items: apply the selection afresh
         self._on_selection(self.document.selection.ids)
         self._refresh_legend()
 
@@ -510,6 +517,7 @@ class CellCanvas(QWidget):
                 self._refresh_legend()
 
     def _refresh_targets(self) -> None:
+        """Markers and labels per arm; unchanged arms keep their drawn images."""
         cell = self.document.cell
         key = tuple((t.id, t.name) for t in cell.targets)
         if key != self._names_key:
@@ -518,57 +526,71 @@ class CellCanvas(QWidget):
         xy_parts = []
         st_parts = []
         ids: list[str] = []
-        reasons: list[str] = []
-        for ev in self._evals.values():
+        groups = []
+        for aid, ev in self._evals.items():
+            status = np.asarray(ev.status, dtype=np.int64)
+            names = [self._names[t] for t in ev.target_ids]
+            self.markers.set_group(aid, ev.xy, status)
+            self._labels.set_group(aid, ev.xy, names, self._reason_texts(ev))
+            groups.append(aid)
             xy_parts.append(ev.xy)
-            st_parts.append(np.asarray(ev.status, dtype=np.int64))
+            st_parts.append(status)
             ids.extend(ev.target_ids)
-            reasons.extend(self._reason_texts(ev))
         seen = set(ids)
         orphans = [t for t in cell.targets if t.id not in seen]
         if orphans:
-            xy_parts.append(np.array([(t.x, t.y) for t in orphans], dtype=float))
-            st_parts.append(np.full(len(orphans), int(Status.BEYOND_REACH), dtype=np.int64))
+            oxy = np.array([(t.x, t.y) for t in orphans], dtype=float)
+            ost = np.full(len(orphans), int(Status.BEYOND_REACH), dtype=np.int64)
+            self.markers.set_group("", oxy, ost)
+            self._labels.set_group(
+                "",
+                oxy,
+                [t.name for t in orphans],
+                [f"assigned to missing arm {t.arm!r}" for t in orphans],
+            )
+            groups.append("")
+            xy_parts.append(oxy)
+            st_parts.append(ost)
             ids.extend(t.id for t in orphans)
-            reasons.extend(f"assigned to missing arm {t.arm!r}" for t in orphans)
-        xy = np.vstack(xy_parts) if xy_parts else np.zeros((0, 2))
-        status = np.concatenate(st_parts) if st_parts else np.zeros(0, dtype=np.int64)
-        self._target_xy = xy
+        self.markers.keep_groups(groups)
+        self._labels.keep_groups(groups)
+        self._target_xy = np.vstack(xy_parts) if xy_parts else np.zeros((0, 2))
         self._target_ids = ids
-        self._target_status = status
-        for st, sc in self._target_scatter.items():
-            pos = xy[status == st]
-            old = self._scatter_cache.get(st)
-            if old is None or old.shape != pos.shape or not np.array_equal(old, pos):
-                sc.setData(pos=pos)
-                self._scatter_cache[st] = pos
-        self._labels.set_labels(xy, [self._names[i] for i in ids], reasons)
+        self._target_status = np.concatenate(st_parts) if st_parts else np.zeros(0, dtype=np.int64)
 
     def _reason_texts(self, ev: ArmEvaluation) -> list[str]:
-        """Why each target fails, with the amount when the engine reports one."""
+        """Why each target fails, with the amount when the engine reports one (cached)."""
+        # While a drag previews, amounts are left out: they would change on every step and
+        # redrawing ~100 texts per step costs more than a frame. They return on release.
+        amounts = not self.document.previewing
+        cached = self._reason_cache.get(ev.arm.id)
+        if cached is not None and cached[0] is ev and cached[2] == amounts:
+            return cached[1]
         out = [""] * len(ev.target_ids)
         bad = np.flatnonzero(~np.asarray(ev.feasible, dtype=bool))
-        if not len(bad):
-            return out
-        u = _UNITS_WORD.get(self._units, self._units)
-        ik = ev.ik
-        for i in bad:
-            st = Status(int(ev.status[i]))
-            text = REASONS[st]
-            if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
-                text = f"{text} by {abs(float(ik.reach_margin[i])):.4g} {u}"
-            elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT):
-                j = 0 if st is Status.Q1_LIMIT else 1
-                allowed = np.asarray(ik.allowed[i], dtype=bool)
-                margins = np.where(
-                    allowed, np.nan_to_num(ik.joint_margin_deg[i, :, j], nan=-1e9), -np.inf
-                )
-                m = float(np.max(margins))
-                if math.isfinite(m) and m > -1e8:
-                    text = f"{text}, {abs(m):.1f}° past"
-            elif st is Status.ELBOW_EXCLUDED:
-                text = f"only the {ev.arm.elbow} elbow is allowed"
-            out[int(i)] = f"{style.status_style(st).glyph} {text}"
+        if len(bad):
+            u = _UNITS_WORD.get(self._units, self._units)
+            ik = ev.ik
+            reach = np.abs(np.asarray(ik.reach_margin, dtype=float))
+            # How far the best allowed configuration is past its limits (the engine's choice).
+            lm = np.where(
+                np.asarray(ik.allowed, dtype=bool),
+                np.nan_to_num(np.asarray(ik.limit_margin_deg, dtype=float), nan=-np.inf),
+                -np.inf,
+            ).max(axis=-1)
+            for i in bad:
+                st = Status(int(ev.status[i]))
+                text = REASONS[st]
+                if not amounts:
+                    pass
+                elif st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
+                    text = f"{text} by {reach[i]:.4g} {u}"
+                elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT) and math.isfinite(lm[i]):
+                    text = f"{text}, {abs(float(lm[i])):.1f}° past"
+                if st is Status.ELBOW_EXCLUDED:
+                    text = f"only the {ev.arm.elbow} elbow is allowed"
+                out[int(i)] = f"{style.status_style(st).glyph} {text}"
+        self._reason_cache[ev.arm.id] = (ev, out, amounts)
         return out
 
     # ------------------------------------------------------------ overlays
@@ -628,7 +650,7 @@ class CellCanvas(QWidget):
                     item.setPen(look.pen)
                     item.setBrush(look.brush)
                     item.setData(0, f"overlay.{k}:{arm.id}")
-                    self._add(item, Z_OVERLAY + order * 0.1)
+                    self._add(item, Z_OVERLAY + order * 0.1, cache=True)
                     self._overlay_items[ik] = item
                     self._overlay_version[ik] = -1
                 if self._overlay_version[ik] != cache.version:
@@ -648,15 +670,19 @@ class CellCanvas(QWidget):
         key = (aid, c, role)
         item = self._ghost_items.get(key)
         if item is None:
-            dash, width, alpha = _GHOST_PENS[role]
             item = QGraphicsPathItem()
-            pen = cosmetic_pen(ELBOW_COLOURS[ELBOWS[c]], width, dash, alpha)
-            pen.setCapStyle(Qt.PenCapStyle.RoundCap)
-            item.setPen(pen)
+            item.setPen(self._ghost_pen(ELBOWS[c], role))
             item.setData(0, f"ghost.{role}.{ELBOWS[c]}:{aid}")
             self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0))
             self._ghost_items[key] = item
         return item
+
+    @staticmethod
+    def _ghost_pen(elbow: str, role: str) -> QPen:
+        dash, width, amount = _GHOST_PENS[role]
+        pen = cosmetic_pen(ELBOW_COLOURS[elbow], width, dash)
+        pen.setColor(mixed(ELBOW_COLOURS[elbow], amount))
+        return pen
 
     def _refresh_ghosts(self, arm_ids=None) -> None:
         cell = self.document.cell
@@ -708,15 +734,19 @@ class CellCanvas(QWidget):
 
     def _on_selection(self, ids) -> None:
         sel = set(ids)
+        if not sel and not self._shown_selection:
+            return  # nothing selected before or now (the common case during a drag)
+        self._shown_selection = sel
         for fid, item in self._fixture_items.items():
             item.set_selected(fid in sel)
         for aid, item in self._arm_items.items():
             item.set_selected(aid in sel)
-        if self._target_ids:
+        pos = np.zeros((0, 2))
+        if self._target_ids and sel:
             mask = np.array([t in sel for t in self._target_ids], dtype=bool)
-            self._select_scatter.setData(pos=self._target_xy[mask])
-        else:
-            self._select_scatter.setData(pos=np.zeros((0, 2)))
+            pos = self._target_xy[mask]
+        self._select_scatter.setData(pos=pos)
+        self._select_scatter.setVisible(len(pos) > 0)
         if self._ghost_mode() == "selected":
             self._refresh_ghosts()
 
@@ -735,9 +765,8 @@ class CellCanvas(QWidget):
                 ("alternative", "other, also works"),
                 ("blocked", "other, past a limit"),
             ):
-                dash, width, alpha = _GHOST_PENS[role]
-                pen = QPen(colour(ELBOW_COLOURS[name], alpha), width)
-                pen.setStyle(cosmetic_pen(ELBOW_COLOURS[name], 1, dash).style())
+                pen = self._ghost_pen(name, role)
+                pen.setWidthF(1.5)  # legend samples are tiny; a little heavier reads better
                 e.append(LegendEntry("line", f"{name} elbow, {words}", pen=pen))
         e.append(LegendEntry("header", "Arm bases"))
         for i, a in enumerate(cell.arms):
@@ -788,10 +817,17 @@ class CellCanvas(QWidget):
             radius=SNAP_PX * self._px(),
         )
         symbol = {"vertex": "s", "midpoint": "t", "grid": "+"}.get(res.kind)
-        self._snap_marker.setData(
-            [res.x], [res.y], symbol=symbol
-        ) if symbol else self._snap_marker.setData([])
+        if symbol:
+            self._snap_marker.setData([res.x], [res.y], symbol=symbol)
+            self._snap_marker.setVisible(True)
+        else:
+            self._hide_snap()
         return res
+
+    def _hide_snap(self) -> None:
+        if self._snap_marker.isVisible():
+            self._snap_marker.setData([])
+            self._snap_marker.setVisible(False)
 
     def _handles(self) -> dict[str, tuple[float, float]]:
         return {aid: item.handle_point() for aid, item in self._arm_items.items()}
@@ -1029,14 +1065,15 @@ class CellCanvas(QWidget):
         d = self._drag
         if d is not None:
             self._drag = None
-            self._snap_marker.setData([])
+            self._hide_snap()
             if d.kind == "rect":
                 x, y = self.viewport_to_world(pos)
                 s = self._snap(x, y, ev.modifiers())
-                self._snap_marker.setData([])
+                self._hide_snap()
                 self._finish_rectangle(d.start, (s.x, s.y), d.active)
             elif d.active:
                 self.document.commit_preview(d.label)
+                self._refresh_targets()  # amounts back in the failure labels
                 self.status_message.emit(f"{d.label} — {self._reach_summary()}")
             return True
         if self._empty_press is not None:
@@ -1129,7 +1166,7 @@ class CellCanvas(QWidget):
         self._tool_item.setPath(QPainterPath())
         self._measure_item.setPath(QPainterPath())
         self._measure_label.setVisible(False)
-        self._snap_marker.setData([])
+        self._hide_snap()
 
     def _update_tool_item(self, cursor: tuple[float, float] | None) -> None:
         tool = self._tool()

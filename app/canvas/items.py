@@ -11,13 +11,24 @@ import math
 
 import numpy as np
 import pyqtgraph as pg
+from pyqtgraph.graphicsItems.ScatterPlotItem import drawSymbol
 from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainterPath, QPen, QTransform
-from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QImage,
+    QPainter,
+    QPainterPath,
+    QPen,
+    QTransform,
+)
+from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QGraphicsView
 
 from app import style
 
-from .qtstyle import FixtureLook, colour, cosmetic_pen
+from .qtstyle import FixtureLook, colour, cosmetic_pen, mixed
 
 __all__ = [
     "polygon_path",
@@ -27,7 +38,10 @@ __all__ = [
     "FixtureItem",
     "ArmItem",
     "LabelsItem",
+    "MarkersItem",
     "ScaleBar",
+    "PlanView",
+    "Grid",
     "nice_length",
 ]
 
@@ -211,153 +225,470 @@ class ArmItem(pg.GraphicsObject):
         painter.restore()
 
 
-class LabelsItem(pg.GraphicsObject):
-    """Target names, with the failure reason on a second line, painted at pixel size.
+MARKER_HALF = 6.5  # half the drawn marker size, pixels
+LABEL_GAP = 11.0  # marker centre to label edge, pixels (more than MARKER_HALF + one cell)
 
-    One item for all targets: painting a few hundred strings from a list is far
-    cheaper than one text item per target, and an update is a single call.
+
+class _ImageLayer(pg.GraphicsObject):
+    """Pixel-sized drawing kept as one image per group until that group or the view changes.
+
+    Groups are the arms: while one base is dragged only its group is drawn
+    again; the others, and every repeat paint of an unchanged state, cost an
+    image copy instead of hundreds of draw calls.
     """
 
     def __init__(self) -> None:
         super().__init__()
-        self._xy = np.zeros((0, 2))
-        self._names: list[str] = []
-        self._reasons: list[str] = []
-        self._font = QFont()
-        self._font.setPointSizeF(8.0)
-        self._reason_font = QFont(self._font)
-        self._reason_font.setBold(True)
-        self._fm = QFontMetricsF(self._font)
-        self._rfm = QFontMetricsF(self._reason_font)
-        self.max_labels = 150
+        self._version = 0
+        self._prepared: tuple | None = None
+        self._boxes: dict[object, tuple[object, QRectF]] = {}
+        self._images: dict[object, tuple[tuple, QImage, QPointF]] = {}
 
-    def set_labels(self, xy: np.ndarray, names: list[str], reasons: list[str]) -> None:
-        xy = np.asarray(xy, dtype=float).reshape(-1, 2)
-        if (
-            names == self._names
-            and reasons == self._reasons
-            and xy.shape == self._xy.shape
-            and np.array_equal(xy, self._xy)
-        ):
-            return
-        self.prepareGeometryChange()
-        self._xy, self._names, self._reasons = xy, list(names), list(reasons)
+    def changed(self) -> None:
+        self._version += 1
         self.update()
 
     def viewRangeChanged(self) -> None:
         self.prepareGeometryChange()
 
     def boundingRect(self) -> QRectF:
-        # Text extends in pixels past its anchor, so claim the whole visible range.
+        # Drawn at pixel size around world anchors: claim the whole visible range.
         vr = self.viewRect()
         return QRectF(vr) if vr is not None else QRectF()
 
+    def _prepare(self, tr: QTransform, vr: QRectF | None) -> dict[object, tuple[object, QRectF]]:
+        """Work out what to draw: per group, a content key and a device-pixel bounding box."""
+        raise NotImplementedError
+
+    def _draw(self, painter, group) -> None:
+        """Draw one group in device pixels."""
+        raise NotImplementedError
+
     def paint(self, painter, option, widget=None) -> None:
-        if not len(self._xy):
-            return
-        vr = self.viewRect()
-        xy = self._xy
-        idx = np.arange(len(xy))
-        if vr is not None:
-            inside = (
-                (xy[:, 0] >= vr.left())
-                & (xy[:, 0] <= vr.right())
-                & (xy[:, 1] >= vr.top())
-                & (xy[:, 1] <= vr.bottom())
-            )
-            idx = idx[inside]
-        failing = np.array([bool(self._reasons[i]) for i in idx], dtype=bool)
-        show_names = True
-        # When crowded, names of feasible targets give way so failure reasons stay legible.
-        if len(idx) > self.max_labels:
-            idx = idx[failing][: self.max_labels]
-            failing = np.ones(len(idx), dtype=bool)
-            show_names = len(idx) <= self.max_labels // 2
         tr = painter.transform()
+        vr = self.viewRect()
+        dev = painter.device()
+        dpr = dev.devicePixelRatioF() if dev is not None else 1.0
+        view_key = (
+            (tr.m11(), tr.m12(), tr.m21(), tr.m22(), tr.dx(), tr.dy()),
+            None if vr is None else (vr.left(), vr.top(), vr.width(), vr.height()),
+            dpr,
+        )
+        if (self._version, view_key) != self._prepared:
+            self._boxes = self._prepare(tr, vr)
+            self._prepared = (self._version, view_key)
+        for g in [g for g in self._images if g not in self._boxes]:
+            del self._images[g]
         painter.save()
         painter.resetTransform()
-        ink = QColor(style.INK)
-        bad = QColor(style.PALETTE["ember"]).darker(140)
+        for g, (content, box) in self._boxes.items():
+            ikey = (content, view_key)
+            cached = self._images.get(g)
+            if cached is None or cached[0] != ikey:
+                cached = (ikey, *self._render(g, box.toAlignedRect(), dpr))
+                self._images[g] = cached
+            if not cached[1].isNull():
+                painter.drawImage(cached[2], cached[1])
+        painter.restore()
+
+    def _render(self, group, box, dpr: float) -> tuple[QImage, QPointF]:
+        if box.width() <= 0 or box.height() <= 0:
+            return QImage(), QPointF()
+        img = QImage(
+            max(1, int(box.width() * dpr)),
+            max(1, int(box.height() * dpr)),
+            QImage.Format.Format_ARGB32_Premultiplied,
+        )
+        img.setDevicePixelRatio(dpr)
+        img.fill(0)
+        p = QPainter(img)
+        p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        p.translate(-box.x(), -box.y())
+        self._draw(p, group)
+        p.end()
+        return img, QPointF(box.x(), box.y())
+
+
+def _to_device(tr: QTransform, xy: np.ndarray) -> np.ndarray:
+    return np.column_stack(
+        [
+            tr.m11() * xy[:, 0] + tr.m21() * xy[:, 1] + tr.dx(),
+            tr.m12() * xy[:, 0] + tr.m22() * xy[:, 1] + tr.dy(),
+        ]
+    )
+
+
+class MarkersItem(_ImageLayer):
+    """Target markers, one shape and colour per status, in groups (one per arm).
+
+    Parameters
+    ----------
+    looks : mapping of status code to (symbol, fill colour)
+        pyqtgraph symbol names and hex colours.
+    """
+
+    def __init__(self, looks: dict[int, tuple[str, str]], size: float = 2 * MARKER_HALF) -> None:
+        super().__init__()
+        self._looks = dict(looks)
+        self._size = size
+        self._symbols: dict[tuple[int, float], QImage] = {}
+        self._groups: dict[object, tuple[np.ndarray, np.ndarray, int]] = {}
+        self._dev: dict[object, np.ndarray] = {}
+
+    def set_group(self, group, xy: np.ndarray, status: np.ndarray) -> None:
+        """Markers of one group (world points and status codes)."""
+        xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+        status = np.asarray(status, dtype=np.int64).reshape(-1)
+        old = self._groups.get(group)
+        if (
+            old is not None
+            and old[0].shape == xy.shape
+            and np.array_equal(old[0], xy)
+            and (np.array_equal(old[1], status))
+        ):
+            return
+        self.prepareGeometryChange()
+        self._groups[group] = (xy, status, (old[2] + 1) if old is not None else 0)
+        self.changed()
+
+    def keep_groups(self, groups) -> None:
+        """Forget every group not in ``groups``."""
+        gone = [g for g in self._groups if g not in set(groups)]
+        for g in gone:
+            del self._groups[g]
+        if gone:
+            self.changed()
+
+    def positions(self, status: int) -> np.ndarray:
+        """World positions of the markers drawn with this status (all groups)."""
+        parts = [xy[st == status] for xy, st, _v in self._groups.values()]
+        return np.vstack(parts) if parts else np.zeros((0, 2))
+
+    def count(self, status: int) -> int:
+        return sum(int(np.count_nonzero(st == status)) for _xy, st, _v in self._groups.values())
+
+    def _symbol(self, status: int, dpr: float) -> QImage:
+        key = (status, dpr)
+        img = self._symbols.get(key)
+        if img is None:
+            symbol, fill = self._looks[status]
+            n = int(math.ceil((self._size + 2) * dpr))
+            img = QImage(n, n, QImage.Format.Format_ARGB32_Premultiplied)
+            img.setDevicePixelRatio(dpr)
+            img.fill(0)
+            p = QPainter(img)
+            p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+            p.translate(n / dpr / 2, n / dpr / 2)
+            pen = QPen(QColor(style.INK), 1.0 / self._size)
+            drawSymbol(p, symbol, self._size, pen, QBrush(QColor(fill)))
+            p.end()
+            self._symbols[key] = img
+        return img
+
+    def _prepare(self, tr: QTransform, vr: QRectF | None) -> dict[object, tuple[object, QRectF]]:
+        boxes = {}
+        self._dev = {}
+        for g, (xy, _st, version) in self._groups.items():
+            if not len(xy):
+                continue
+            dev = _to_device(tr, xy)
+            self._dev[g] = dev
+            lo = dev.min(axis=0) - self._size
+            hi = dev.max(axis=0) + self._size
+            boxes[g] = (version, QRectF(lo[0], lo[1], hi[0] - lo[0], hi[1] - lo[1]))
+        return boxes
+
+    def _draw(self, painter, group) -> None:
+        dpr = painter.device().devicePixelRatioF()
+        _xy, status, _v = self._groups[group]
+        dev = self._dev[group]
+        for st in np.unique(status):
+            img = self._symbol(int(st), dpr)
+            half = img.width() / dpr / 2
+            for x, y in dev[status == st]:
+                painter.drawImage(QPointF(x - half, y - half), img)
+
+
+class LabelsItem(pg.GraphicsObject):
+    """Target names, with the failure reason on a second line, painted at pixel size.
+
+    Labels are placed greedily so they overlap neither each other nor the
+    markers, failure reasons first; a label that cannot sit right of its
+    marker gets a leader line. While the view stays put (a drag), labels that
+    keep their size keep their place and only new ones are placed. Each label
+    is rendered once into a small image, so a repaint is one copy per label.
+    """
+
+    def __init__(self) -> None:
+        super().__init__()
+        self._groups: dict[object, tuple[np.ndarray, list[str], list[str], np.ndarray]] = {}
+        self._font = QFont()
+        self._font.setPointSizeF(8.0)
+        self._reason_font = QFont(self._font)
+        self._reason_font.setBold(True)
+        self._fm = QFontMetricsF(self._font)
+        self._rfm = QFontMetricsF(self._reason_font)
+        self._widths: dict[tuple[bool, str], float] = {}
+        self._images: dict[tuple[str, str, float], QImage] = {}
+        self._layout: list[tuple] = []
+        self._spots: dict[tuple, tuple] = {}  # (group, index) -> (reserved w, rows, x, y, lead)
+        self._view_key: tuple | None = None
+        self._prepared: tuple | None = None
+        self._version = 0
+        self.max_labels = 150
+
+    def set_group(self, group, xy: np.ndarray, names: list[str], reasons: list[str]) -> None:
+        """Labels of one group: anchors (world), names and reasons ('' when feasible)."""
+        xy = np.asarray(xy, dtype=float).reshape(-1, 2)
+        old = self._groups.get(group)
+        same_xy = old is not None and old[0].shape == xy.shape and np.array_equal(old[0], xy)
+        if same_xy and old[1] == names and old[2] == reasons:
+            return
+        if not same_xy or len(names) != len(old[1]):
+            # Anchors moved: this group's labels are placed afresh.
+            self._spots = {k: v for k, v in self._spots.items() if k[0] != group}
+        failing = np.array([bool(r) for r in reasons], dtype=bool)
+        self._groups[group] = (xy, list(names), list(reasons), failing)
+        if len(self._images) > 5000:  # images of long-gone labels
+            self._images.clear()
+            self._widths.clear()
+        self._version += 1
+        self.update()
+
+    def keep_groups(self, groups) -> None:
+        """Forget every group not in ``groups``."""
+        gone = [g for g in self._groups if g not in set(groups)]
+        for g in gone:
+            del self._groups[g]
+        if gone:
+            self._spots = {k: v for k, v in self._spots.items() if k[0] in self._groups}
+            self._version += 1
+            self.update()
+
+    def placed(self) -> list[tuple]:
+        """Last layout: (x, y, width, height, name, reason, leader) per label, in pixels."""
+        return list(self._layout)
+
+    def viewRangeChanged(self) -> None:
+        self.prepareGeometryChange()
+
+    def boundingRect(self) -> QRectF:
+        # Drawn at pixel size around world anchors: claim the whole visible range.
+        vr = self.viewRect()
+        return QRectF(vr) if vr is not None else QRectF()
+
+    def _width(self, bold: bool, text: str) -> float:
+        key = (bold, text)
+        w = self._widths.get(key)
+        if w is None:
+            w = (self._rfm if bold else self._fm).horizontalAdvance(text)
+            self._widths[key] = w
+        return w
+
+    def _image(self, name: str, reason: str, dpr: float) -> QImage:
+        key = (name, reason, dpr)
+        img = self._images.get(key)
+        if img is not None:
+            return img
+        h = self._fm.height()
+        w = max(
+            self._width(False, name) if name else 0.0,
+            self._width(True, reason) if reason else 0.0,
+        )
+        rows = int(bool(name)) + int(bool(reason))
+        img = QImage(
+            int(math.ceil((w + 4) * dpr)),
+            int(math.ceil((h * rows + 1) * dpr)),
+            QImage.Format.Format_ARGB32_Premultiplied,
+        )
+        img.setDevicePixelRatio(dpr)
         halo = QColor(style.PAPER)
         halo.setAlphaF(0.8)
+        img.fill(halo)
+        p = QPainter(img)
+        p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        y = self._fm.ascent()
+        if name:
+            p.setPen(QColor(style.INK))
+            p.setFont(self._font)
+            p.drawText(QPointF(2.0, y), name)
+            y += h
+        if reason:
+            p.setPen(QColor(style.PALETTE["ember"]).darker(140))
+            p.setFont(self._reason_font)
+            p.drawText(QPointF(2.0, y), reason)
+        p.end()
+        self._images[key] = img
+        return img
+
+    def _prepare(self, tr: QTransform, vr: QRectF | None) -> None:
+        self._layout = []
+        view_key = (tr.m11(), tr.m12(), tr.m21(), tr.m22(), tr.dx(), tr.dy())
+        if view_key != self._view_key:
+            self._view_key = view_key
+            self._spots = {}
+        devs = {}
+        picks = []  # (group, indices of candidates, failing mask of those)
+        total = 0
+        for g, (xy, _names, _reasons, _failing) in self._groups.items():
+            if not len(xy):
+                continue
+            dev = _to_device(tr, xy)
+            devs[g] = dev
+            inside = np.ones(len(xy), dtype=bool)
+            if vr is not None:
+                inside = (
+                    (xy[:, 0] >= vr.left())
+                    & (xy[:, 0] <= vr.right())
+                    & (xy[:, 1] >= vr.top())
+                    & (xy[:, 1] <= vr.bottom())
+                )
+            picks.append((g, inside))
+            total += int(np.count_nonzero(inside))
+        show_names = True
+        # When crowded, names of feasible targets give way so failure reasons stay legible.
+        crowded = total > self.max_labels
+        order: list[tuple] = []  # (group, index, failing)
+        for g, inside in picks:
+            failing = self._groups[g][3]
+            order.extend((g, int(i), True) for i in np.flatnonzero(inside & failing))
+        if crowded:
+            order = order[: self.max_labels]
+            show_names = len(order) <= self.max_labels // 2
+        else:
+            for g, inside in picks:
+                failing = self._groups[g][3]
+                order.extend((g, int(i), False) for i in np.flatnonzero(inside & ~failing))
         h = self._fm.height()
-        asc = self._fm.ascent()
-        placer = _Placer(cell=24.0)
-        # Failure reasons claim space first: they are what a designer must not miss.
-        order = sorted(range(len(idx)), key=lambda k: not failing[k])
-        for k in order:
-            i = idx[k]
-            anchor = tr.map(QPointF(xy[i, 0], xy[i, 1]))
-            placer.block(anchor.x() - 7, anchor.y() - 7, anchor.x() + 7, anchor.y() + 7)
-        for k in order:
-            i = idx[k]
-            name = self._names[i] if show_names else ""
-            reason = self._reasons[i] if failing[k] else ""
+        vb = self.getViewBox()
+        size = (vb.width() + 200, vb.height() + 200) if vb is not None else (4000.0, 4000.0)
+        placer = _Placer(*size)
+        for dev in devs.values():
+            placer.block_points(dev, MARKER_HALF)
+        entries = []
+        for g, i, failing in order:
+            _xy, names, reasons, _f = self._groups[g]
+            name = names[i] if show_names else ""
+            reason = reasons[i] if failing else ""
+            if not (name or reason):
+                continue
             w = max(
-                self._fm.horizontalAdvance(name) if name else 0.0,
-                self._rfm.horizontalAdvance(reason) if reason else 0.0,
+                self._width(False, name) if name else 0.0,
+                self._width(True, reason) if reason else 0.0,
             )
             rows = int(bool(name)) + int(bool(reason))
-            if not rows:
-                continue
+            # Widths reserved in 24 px steps, so changing numbers rarely move a label.
+            entries.append((g, i, name, reason, math.ceil(w / 24.0) * 24.0, rows, w))
+        # Labels that keep their reserved size keep their spot (stable during a drag).
+        spots: dict[tuple, tuple] = {}
+        todo = []
+        for e in entries:
+            old = self._spots.get((e[0], e[1]))
+            if old is not None and old[0] == e[4] and old[1] == e[5]:
+                placer.block(old[2], old[3], old[2] + e[4], old[3] + h * e[5])
+                spots[(e[0], e[1])] = old
+            else:
+                todo.append(e)
+        for g, i, _name, reason, w, rows, _w in todo:
             bh = h * rows
-            a = tr.map(QPointF(xy[i, 0], xy[i, 1]))
-            # Right, left, below, above the marker: the first free spot wins.
-            spots = (
-                (a.x() + 9.0, a.y() - h / 2),
-                (a.x() - 9.0 - w, a.y() - h / 2),
-                (a.x() - w / 2, a.y() + 9.0),
-                (a.x() - w / 2, a.y() - 9.0 - bh),
+            ax, ay = float(devs[g][i, 0]), float(devs[g][i, 1])
+            gap = LABEL_GAP
+            options = (
+                (ax + gap, ay - h / 2),
+                (ax - gap - w, ay - h / 2),
+                (ax - w / 2, ay + gap),
+                (ax - w / 2, ay - gap - bh),
             )
-            spot = None
-            for sx, sy in spots:
-                if placer.free(sx, sy, sx + w, sy + bh):
-                    spot = (sx, sy)
-                    break
+            spot = next((c for c in options if placer.free(c[0], c[1], c[0] + w, c[1] + bh)), None)
             if spot is None:
                 if not reason:
                     continue  # a crowded name gives way; the tooltip and tables still show it
-                spot = spots[0]
-            sx, sy = spot
-            placer.block(sx, sy, sx + w, sy + bh)
-            painter.fillRect(QRectF(sx - 2, sy, w + 4, bh + 1), halo)
-            p = QPointF(sx, sy + asc)
-            if name:
-                painter.setPen(ink)
-                painter.setFont(self._font)
-                painter.drawText(p, name)
-                p = p + QPointF(0, h)
-            if reason:
-                painter.setPen(bad)
-                painter.setFont(self._reason_font)
-                painter.drawText(p, reason)
+                spot = options[0]
+            placer.block(spot[0], spot[1], spot[0] + w, spot[1] + bh)
+            lead = None if spot == options[0] else (ax, ay)
+            spots[(g, i)] = (w, rows, spot[0], spot[1], lead)
+        self._spots = spots
+        for g, i, name, reason, _rw, rows, w in entries:
+            if (g, i) in spots:
+                _r1, _r2, sx, sy, lead = spots[(g, i)]
+                self._layout.append((sx, sy, w, h * rows, name, reason, lead))
+
+    def paint(self, painter, option, widget=None) -> None:
+        tr = painter.transform()
+        vr = self.viewRect()
+        key = (
+            self._version,
+            (tr.m11(), tr.m12(), tr.m21(), tr.m22(), tr.dx(), tr.dy()),
+            None if vr is None else (vr.left(), vr.top(), vr.width(), vr.height()),
+        )
+        if key != self._prepared:
+            self._prepare(tr, vr)
+            self._prepared = key
+        dev = painter.device()
+        dpr = dev.devicePixelRatioF() if dev is not None else 1.0
+        painter.save()
+        painter.resetTransform()
+        painter.setRenderHint(painter.RenderHint.Antialiasing, True)
+        painter.setPen(QPen(QColor(style.PALETTE["slate"]), 1.0))
+        for sx, sy, w, bh, _name, _reason, lead in self._layout:
+            if lead is not None:
+                tx = min(max(lead[0], sx), sx + w)
+                ty = min(max(lead[1], sy), sy + bh)
+                painter.drawLine(QPointF(*lead), QPointF(tx, ty))
+        for sx, sy, _w, _bh, name, reason, _lead in self._layout:
+            painter.drawImage(QPointF(sx - 2.0, sy), self._image(name, reason, dpr))
         painter.restore()
 
 
 class _Placer:
-    """Occupied screen rectangles in coarse buckets, for greedy label placement."""
+    """Occupied screen area as a coarse bitmap (4 px cells), for greedy label placement."""
 
-    def __init__(self, cell: float) -> None:
-        self.cell = cell
-        self.buckets: dict[tuple[int, int], list[tuple[float, float, float, float]]] = {}
+    CELL = 4.0
 
-    def _keys(self, x0: float, y0: float, x1: float, y1: float):
-        c = self.cell
-        for bx in range(int(math.floor(x0 / c)), int(math.floor(x1 / c)) + 1):
-            for by in range(int(math.floor(y0 / c)), int(math.floor(y1 / c)) + 1):
-                yield bx, by
+    def __init__(self, width: float, height: float) -> None:
+        self.nx = max(1, int(width / self.CELL) + 1)
+        self.ny = max(1, int(height / self.CELL) + 1)
+        self.grid = np.zeros((self.ny, self.nx), dtype=bool)
+
+    def _span(self, x0: float, y0: float, x1: float, y1: float):
+        c = self.CELL
+        i0 = min(max(int(x0 // c), 0), self.nx)
+        i1 = min(max(int(x1 // c) + 1, 0), self.nx)
+        j0 = min(max(int(y0 // c), 0), self.ny)
+        j1 = min(max(int(y1 // c) + 1, 0), self.ny)
+        return j0, j1, i0, i1
 
     def free(self, x0: float, y0: float, x1: float, y1: float) -> bool:
-        for key in self._keys(x0, y0, x1, y1):
-            for a0, b0, a1, b1 in self.buckets.get(key, ()):
-                if a0 < x1 and x0 < a1 and b0 < y1 and y0 < b1:
-                    return False
-        return True
+        j0, j1, i0, i1 = self._span(x0, y0, x1, y1)
+        # Off-screen parts count as free: the label is clipped there, not overlapping.
+        return not self.grid[j0:j1, i0:i1].any()
 
     def block(self, x0: float, y0: float, x1: float, y1: float) -> None:
-        r = (x0, y0, x1, y1)
-        for key in self._keys(x0, y0, x1, y1):
-            self.buckets.setdefault(key, []).append(r)
+        j0, j1, i0, i1 = self._span(x0, y0, x1, y1)
+        self.grid[j0:j1, i0:i1] = True
+
+    def block_points(self, xy: np.ndarray, half: float) -> None:
+        """Block a square of side ``2*half`` around each point (marker footprints)."""
+        if not len(xy):
+            return
+        c = self.CELL
+        i0 = np.floor((xy[:, 0] - half) / c).astype(int)
+        j0 = np.floor((xy[:, 1] - half) / c).astype(int)
+        n = int(math.floor(2 * half / c)) + 2
+        off = np.arange(n)
+        ii = np.broadcast_to(i0[:, None, None] + off[None, None, :], (len(xy), n, n))
+        jj = np.broadcast_to(j0[:, None, None] + off[None, :, None], (len(xy), n, n))
+        # Keep only cells that the square really touches.
+        ok = (
+            (ii * c < (xy[:, 0] + half)[:, None, None])
+            & (jj * c < (xy[:, 1] + half)[:, None, None])
+            & (ii >= 0)
+            & (ii < self.nx)
+            & (jj >= 0)
+            & (jj < self.ny)
+        )
+        self.grid[jj[ok], ii[ok]] = True
 
 
 def nice_length(target: float) -> float:
@@ -428,3 +759,86 @@ class ScaleBar(pg.GraphicsObject):
             painter.drawLine(QPointF(x, 0), QPointF(x, -tick))
         painter.setFont(self._font)
         painter.drawText(QRectF(0, -22, w, 14), Qt.AlignmentFlag.AlignCenter, self.text())
+
+
+class PlanView(pg.PlotWidget):
+    """The plot widget with the plan grid drawn as its cached background.
+
+    The grid is painted under every item by ``drawBackground`` and Qt keeps it
+    as one opaque pixmap (CacheBackground) until the view range changes, so a
+    repaint during a drag costs a single copy for it.
+    """
+
+    def __init__(self, **kwargs) -> None:
+        super().__init__(**kwargs)
+        self.grid: Grid | None = None
+        self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
+
+    def drawBackground(self, painter, rect) -> None:  # noqa: N802 (Qt name)
+        super().drawBackground(painter, rect)
+        if self.grid is not None:
+            self.grid.paint(painter)
+
+
+class Grid:
+    """A plan grid in the cell's units: major lines about 110 px apart, minor ones between.
+
+    The axes get the same spacing, so grid lines and tick labels agree.
+    """
+
+    def __init__(self, view: PlanView, vb: pg.ViewBox, axes: tuple = ()) -> None:
+        self.view = view
+        self.vb = vb
+        self.axes = axes
+        self.major = 100.0
+        self.minor = 20.0
+        view.grid = self
+        vb.sigRangeChanged.connect(self._relayout)
+        vb.sigResized.connect(self._relayout)
+
+    def _relayout(self, *args) -> None:
+        px = self.vb.viewPixelSize()[0] if self.vb.width() > 0 else 0.0
+        if px <= 0 or not math.isfinite(px):
+            return
+        self.major = nice_length(110.0 * px)
+        self.minor = self.major / (4.0 if f"{self.major:e}"[0] == "2" else 5.0)
+        if self.minor / px < 10.0:
+            self.minor = self.major
+        for ax in self.axes:
+            ax.setTickSpacing(self.major, self.minor)
+        self.view.resetCachedContent()
+        self.view.viewport().update()
+
+    def paint(self, painter) -> None:
+        """Paint into the view's background (the painter is in scene coordinates)."""
+        vb = self.vb
+        if vb.width() <= 0:
+            return
+        area = vb.sceneBoundingRect()
+        painter.save()
+        painter.setClipRect(area)
+        painter.setRenderHint(painter.RenderHint.Antialiasing, False)
+        (x0, x1), (y0, y1) = vb.viewRange()
+        o = vb.mapViewToScene(QPointF(0.0, 0.0))
+        e = vb.mapViewToScene(QPointF(1.0, 1.0))
+        sx, sy = e.x() - o.x(), e.y() - o.y()
+        passes = [(self.major, QPen(mixed(style.PALETTE["fog"], 1.0), 0), False)]
+        if self.minor < self.major:
+            passes.insert(0, (self.minor, QPen(mixed(style.PALETTE["fog"], 0.45), 0), True))
+        for step, pen, skip_major in passes:
+            painter.setPen(pen)
+            xs = np.arange(math.ceil(x0 / step), math.floor(x1 / step) + 1) * step
+            ys = np.arange(math.ceil(y0 / step), math.floor(y1 / step) + 1) * step
+            for v in xs:
+                if not (skip_major and _on_major(v, self.major)):
+                    x = o.x() + sx * v
+                    painter.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()))
+            for v in ys:
+                if not (skip_major and _on_major(v, self.major)):
+                    y = o.y() + sy * v
+                    painter.drawLine(QPointF(area.left(), y), QPointF(area.right(), y))
+        painter.restore()
+
+
+def _on_major(v: float, major: float) -> bool:
+    return abs(v / major - round(v / major)) < 1e-9

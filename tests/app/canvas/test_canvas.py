@@ -134,11 +134,11 @@ def test_every_sample_cell_opens_and_draws_its_items(qtbot, path):
     assert not img.isNull() and img.width() > 0
     # One marker per target across the status layers, with the status the engine gives.
     ev = doc.evaluation
-    drawn = sum(len(sc.data) for sc in c._target_scatter.values())
+    drawn = sum(c.markers.count(int(st)) for st in Status)
     assert drawn == len(cell.targets)
-    for st, sc in c._target_scatter.items():
+    for st in Status:
         expected = sum(int(np.count_nonzero(e.status == st)) for e in ev.arms.values())
-        assert len(sc.data) == expected
+        assert c.markers.count(int(st)) == expected
     assert len(c._fixture_items) == len(cell.fixtures)
     assert c.plot.getAxis("bottom").labelText == f"x ({cell.units})"
     assert c.scale_bar.text().endswith(cell.units)
@@ -166,7 +166,7 @@ def test_dragging_a_base_updates_statuses_live_and_records_one_undo_step(qtbot, 
         t = next(t for t in doc.cell.targets if t.id == tid)
         assert int(ev.status[i]) == _reach_status(arm, t.x, t.y) == int(Status.BEYOND_REACH)
     # The canvas draws them with the out-of-reach marker.
-    assert len(canvas._target_scatter[int(Status.BEYOND_REACH)].data) == 3
+    assert canvas.markers.count(int(Status.BEYOND_REACH)) == 3
     assert canvas.status_message is not None
 
 
