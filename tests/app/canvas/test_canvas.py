@@ -15,9 +15,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from PySide6.QtCore import QPoint, Qt
-from PySide6.QtGui import QPainterPath
-from PySide6.QtWidgets import QGraphicsItem
+from PySide6.QtCore import QEvent, QPoint, QPointF, Qt
+from PySide6.QtGui import QMouseEvent, QPainterPath
+from PySide6.QtWidgets import QApplication, QGraphicsItem
 
 from app.canvas import CellCanvas
 from app.canvas.qtstyle import OVERLAY_LOOKS
@@ -436,3 +436,151 @@ def test_legend_explains_statuses_ghosts_and_fixtures(canvas):
     assert any("chosen" in t for t in texts) and any("also works" in t for t in texts)
     assert any(t.startswith("keep-out") for t in texts)
     assert any("Loader" in t for t in texts)
+
+
+def _send_mouse(widget, kind, pos, mods, buttons, button=Qt.MouseButton.NoButton):
+    """A mouse event with modifiers on a move (QTest's mouseMove cannot carry them)."""
+    ev = QMouseEvent(kind, QPointF(pos), QPointF(widget.mapToGlobal(pos)), button, buttons, mods)
+    QApplication.sendEvent(widget, ev)
+
+
+def _labels_of(canvas) -> dict[str, str]:
+    return {name: reason for *_xy, name, reason, _lead in canvas._labels.placed()}
+
+
+def test_failure_labels_give_reason_and_amount(qtbot, canvas, rec):
+    canvas.grab()  # lay the labels out
+    arm = rec.doc.cell.arm("a")
+    # "Pick" at (300, 300) is reachable; "Place" at (-350, 250) is too (r = 430 < 650).
+    assert _labels_of(canvas)["Pick"] == ""
+    rec.doc.edit(
+        "far",
+        replace(
+            rec.doc.cell, targets=rec.doc.cell.targets + (Target("t9", "Far", 700.0, 240.0, "a"),)
+        ),
+    )
+    canvas.grab()
+    over = math.hypot(700.0, 240.0) - (arm.a1 + arm.a2)  # annulus law: r - (a1 + a2)
+    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.4g} mm"
+    # While a drag previews, the amount is left out (it changes every step); it returns after.
+    _drag(qtbot, canvas, (0.0, 0.0), (-40.0, 0.0), release=False)
+    canvas.grab()
+    assert _labels_of(canvas)["Far"] == "✕ beyond outer reach"
+    qtbot.mouseRelease(canvas.viewport(), Qt.MouseButton.LeftButton, pos=_vp(canvas, -40.0, 0.0))
+    canvas.grab()
+    arm = rec.doc.cell.arm("a")
+    over = math.hypot(700.0 - arm.x, 240.0 - arm.y) - (arm.a1 + arm.a2)
+    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.4g} mm"
+
+
+def test_q1_limit_label_says_how_far_past(qtbot):
+    # Shoulder limited to +-90 from a heading of 0: a target behind the base fails on q1.
+    arm = Arm("a", "Back", 0.0, 0.0, 0.0, 400.0, 250.0, (-90.0, 90.0), (-170.0, 170.0))
+    x, y = -300.0, 50.0
+    doc = Document(Cell("q1", arms=(arm,), targets=(Target("t", "Behind", x, y, "a"),)))
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+    c.resize(900, 700)
+    c.show()
+    c.grab()
+    # Closed-form two-link IK (law of cosines), both elbows, independent of the engine.
+    r2 = x * x + y * y
+    c2 = (r2 - arm.a1**2 - arm.a2**2) / (2 * arm.a1 * arm.a2)
+    past = []
+    for sign in (1.0, -1.0):
+        q2 = sign * math.acos(c2)
+        q1 = math.degrees(
+            math.atan2(y, x) - math.atan2(arm.a2 * math.sin(q2), arm.a1 + arm.a2 * math.cos(q2))
+        )
+        q1 = (q1 + 180.0) % 360.0 - 180.0
+        past.append(min(abs(q1 - 90.0), abs(q1 + 90.0)) if abs(q1) > 90.0 else 0.0)
+    assert min(past) > 0.0
+    assert _labels_of(c)["Behind"] == f"▲ q1 limit, {min(past):.1f}° past"
+
+
+def test_regions_are_rebuilt_only_when_arm_geometry_changes(qtbot, canvas, rec):
+    doc = rec.doc
+    version = canvas._regions["a"].version
+    _drag(qtbot, canvas, (0.0, 0.0), (120.0, -80.0))
+    assert canvas._regions["a"].version == version  # a move is a transform, not a rebuild
+    arm = doc.cell.arm("a")
+    doc.edit("longer", replace(doc.cell, arms=(replace(arm, a2=300.0),)))
+    assert canvas._regions["a"].version == version + 1
+    (item,) = canvas.overlay_items("annulus")
+    rect = item.mapRectToParent(item.path().boundingRect())
+    assert rect.width() == pytest.approx(2 * (400.0 + 300.0), rel=1e-3)
+    assert rect.center().x() == pytest.approx(arm.x, abs=1.0)
+
+
+def test_alt_held_during_a_drag_suspends_snapping(qtbot, canvas, rec):
+    vp = canvas.viewport()
+    t = rec.doc.cell.targets[0]
+    a = _vp(canvas, t.x, t.y)
+    b = _vp(canvas, t.x + 33.3, t.y + 17.7)
+    alt = Qt.KeyboardModifier.AltModifier
+    left = Qt.MouseButton.LeftButton
+    _send_mouse(vp, QEvent.Type.MouseButtonPress, a, alt, left, left)
+    _send_mouse(vp, QEvent.Type.MouseMove, QPoint(a.x() + 5, a.y()), alt, left)
+    _send_mouse(vp, QEvent.Type.MouseMove, b, alt, left)
+    _send_mouse(vp, QEvent.Type.MouseButtonRelease, b, alt, Qt.MouseButton.NoButton, left)
+    moved = next(x for x in rec.doc.cell.targets if x.id == t.id)
+    (ax, ay), (bx, by) = canvas.viewport_to_world(a), canvas.viewport_to_world(b)
+    # Moved by exactly the pointer's travel, not rounded to the 10-unit grid.
+    assert (moved.x, moved.y) == pytest.approx((t.x + bx - ax, t.y + by - ay), abs=1e-9)
+    assert (moved.x % 10.0, moved.y % 10.0) != (0.0, 0.0)
+
+
+def test_tooltip_explains_a_failing_target(qtbot, canvas, rec):
+    rec.doc.edit(
+        "far",
+        replace(
+            rec.doc.cell, targets=rec.doc.cell.targets + (Target("t9", "Far", 700.0, 240.0, "a"),)
+        ),
+    )
+    text = canvas.target_tooltip("t9")
+    assert "Far (Loader)" in text and "FAIL: beyond outer reach by" in text
+    ok = canvas.target_tooltip("t1")
+    assert "● ok" in ok and "chosen" in ok
+
+
+def test_vertex_menu_rename_and_kind(canvas, rec):
+    doc = rec.doc
+    menu = canvas.context_menu_at(-200.0, -300.0)  # a corner of the triangular aisle
+    acts = {a.text(): a for a in menu.actions()}
+    assert not acts["Delete vertex"].isEnabled()  # a triangle keeps its three corners
+    canvas.ask_position = lambda *a, **k: (-150.0, -250.0, None)
+    acts["Set vertex position…"].trigger()
+    assert doc.cell.fixtures[1].outline[2] == (-150.0, -250.0)
+    assert rec.pushed[-1].label == "Move vertex of Aisle"
+    canvas.ask_name = lambda *a, **k: "Walkway"
+    menu = canvas.context_menu_at(-500.0, -450.0)
+    next(a for a in menu.actions() if a.text() == "Rename…").trigger()
+    assert doc.cell.fixtures[1].name == "Walkway"
+    assert rec.pushed[-1].label == "Rename fixture Aisle to Walkway"
+    menu = canvas.context_menu_at(400.0, 300.0)
+    kinds = next(a for a in menu.actions() if a.text() == "Kind").menu()
+    next(a for a in kinds.actions() if a.text() == "guard").trigger()
+    assert doc.cell.fixtures[0].kind == "guard"
+    assert canvas._fixture_items["f1"].kind == "guard"
+    assert any(t.startswith("guard") for t in canvas.legend.texts())
+
+
+def test_polygon_tool_escape_double_click_and_refusal(qtbot, canvas, rec):
+    doc = rec.doc
+    canvas.actions()["tool.polygon"].setChecked(True)
+    for x, y in ((-800.0, 400.0), (-600.0, 400.0)):
+        _click(qtbot, canvas, x, y)
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Escape)
+    assert len(doc.cell.fixtures) == 2 and rec.pushed == []
+    messages: list[str] = []
+    canvas.status_message.connect(messages.append)
+    # A bow tie is refused with a reason, and drawing goes on.
+    for x, y in ((-800.0, 400.0), (-600.0, 600.0), (-600.0, 400.0), (-800.0, 600.0)):
+        _click(qtbot, canvas, x, y)
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Return)
+    assert len(doc.cell.fixtures) == 2
+    assert messages[-1] == "Cannot add the fixture: outline crosses itself"
+    qtbot.keyClick(canvas.plot, Qt.Key.Key_Backspace)  # drop the crossing corner
+    qtbot.mouseDClick(canvas.viewport(), Qt.MouseButton.LeftButton, pos=_vp(canvas, -700.0, 700.0))
+    assert len(doc.cell.fixtures) == 3
+    assert doc.cell.fixtures[-1].outline == ((-800.0, 400.0), (-600.0, 600.0), (-600.0, 400.0))
