@@ -167,8 +167,9 @@ class CellCanvas(QWidget):
         self.ask_position = dialogs.ask_position
         self.ask_name = dialogs.ask_name
 
-        pg.setConfigOptions(antialias=True)
         self.plot = PlanView(background=style.PAPER)
+        # Smooth outlines for every plain Qt item (pyqtgraph's own default is off).
+        self.plot.setAntialiasing(True)
         self.plot.setMenuEnabled(False)
         self.plot.hideButtons()
         self.plot.setFocusPolicy(Qt.FocusPolicy.StrongFocus)
@@ -673,7 +674,7 @@ class CellCanvas(QWidget):
             item = QGraphicsPathItem()
             item.setPen(self._ghost_pen(ELBOWS[c], role))
             item.setData(0, f"ghost.{role}.{ELBOWS[c]}:{aid}")
-            self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0))
+            self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0), cache=True)
             self._ghost_items[key] = item
         return item
 
@@ -852,24 +853,26 @@ class CellCanvas(QWidget):
                 return True  # our own menu opens on right-button release
             if t == QEvent.Type.Leave:
                 self._set_hover("")
-        elif obj is self.plot and t in (QEvent.Type.KeyPress, QEvent.Type.ShortcutOverride):
-            if self._handles_key(ev):
-                if t == QEvent.Type.ShortcutOverride:
-                    ev.accept()
-                    return True
+        elif obj is self.plot and t == QEvent.Type.ShortcutOverride:
+            if self._claims_key(ev):
+                ev.accept()  # ours even if a window shortcut uses the same key
+                return True
+        elif obj is self.plot and t == QEvent.Type.KeyPress:
+            if self._claims_key(ev) or ev.key() in (Qt.Key.Key_Delete, Qt.Key.Key_Backspace):
                 return self._on_key(ev)
         return False
 
-    def _handles_key(self, ev) -> bool:
+    def _claims_key(self, ev) -> bool:
+        """Keys the canvas takes over from window shortcuts: Esc, and Enter/Backspace while drawing.
+
+        Delete is left to a window shortcut when there is one (the window's Delete
+        also knows about arms); without one, the canvas deletes the selection.
+        """
         k = ev.key()
         if k == Qt.Key.Key_Escape:
             return True
         if k in (Qt.Key.Key_Return, Qt.Key.Key_Enter, Qt.Key.Key_Backspace):
-            return (
-                bool(self._poly) or k == Qt.Key.Key_Backspace and bool(self.document.selection.ids)
-            )
-        if k == Qt.Key.Key_Delete:
-            return True
+            return bool(self._poly)
         return False
 
     def _on_key(self, ev) -> bool:
@@ -1074,6 +1077,7 @@ class CellCanvas(QWidget):
             elif d.active:
                 self.document.commit_preview(d.label)
                 self._refresh_targets()  # amounts back in the failure labels
+                self._labels.relayout()  # and a tidy layout after incremental updates
                 self.status_message.emit(f"{d.label} — {self._reach_summary()}")
             return True
         if self._empty_press is not None:

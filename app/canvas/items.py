@@ -120,6 +120,12 @@ class FixtureItem(QGraphicsPathItem):
         self._halo.setPen(cosmetic_pen(style.PALETTE["harbour"], 8.0, alpha=0.45))
         self._halo.setVisible(False)
 
+    def setCacheMode(self, mode, *args) -> None:  # noqa: N802 (Qt name)
+        # The underlay and halo are child items: cache them the same way.
+        super().setCacheMode(mode, *args)
+        self._under.setCacheMode(mode, *args)
+        self._halo.setCacheMode(mode, *args)
+
     def set_look(self, kind: str, look: FixtureLook) -> None:
         self.kind, self.look = kind, look
         self.setPen(look.pen)
@@ -168,10 +174,19 @@ class ArmItem(pg.GraphicsObject):
         h = math.radians(self.heading)
         return self.x + self.arrow * math.cos(h), self.y + self.arrow * math.sin(h)
 
+    def viewTransformChanged(self) -> None:
+        super().viewTransformChanged()
+        self.prepareGeometryChange()  # the pixel-sized name and marks change world size
+
     def boundingRect(self) -> QRectF:
-        # Generous: the name and pixel-sized marks extend past the footprint.
-        r = max(self.radius, self.arrow) * 3.0
+        # The name and pixel-sized marks extend past the footprint: add a margin in pixels.
+        vx, _vy = self.pixelVectors()
+        px = math.hypot(vx.x(), vx.y()) if vx is not None else 0.0
+        r = max(self.radius, self.arrow) + 20.0 * px + self._name_px() * px
         return QRectF(self.x - r, self.y - r, 2 * r, 2 * r)
+
+    def _name_px(self) -> float:
+        return QFontMetricsF(self._font).horizontalAdvance(self.name) + 30.0
 
     def paint(self, painter, option, widget=None) -> None:
         painter.setRenderHint(painter.RenderHint.Antialiasing, True)
@@ -415,14 +430,16 @@ class LabelsItem(pg.GraphicsObject):
 
     Labels are placed greedily so they overlap neither each other nor the
     markers, failure reasons first; a label that cannot sit right of its
-    marker gets a leader line. While the view stays put (a drag), labels that
-    keep their size keep their place and only new ones are placed. Each label
-    is rendered once into a small image, so a repaint is one copy per label.
+    marker gets a leader line. While the view and the anchors stay put (a base
+    drag), the layout is updated incrementally: labels that keep their size
+    keep their place, only new ones are placed. Each label is rendered once
+    into a small image, so a repaint is one copy per label.
     """
 
     def __init__(self) -> None:
         super().__init__()
-        self._groups: dict[object, tuple[np.ndarray, list[str], list[str], np.ndarray]] = {}
+        # group -> (anchors, names, reasons, failing mask, anchors version)
+        self._groups: dict[object, tuple] = {}
         self._font = QFont()
         self._font.setPointSizeF(8.0)
         self._reason_font = QFont(self._font)
@@ -432,10 +449,13 @@ class LabelsItem(pg.GraphicsObject):
         self._widths: dict[tuple[bool, str], float] = {}
         self._images: dict[tuple[str, str, float], QImage] = {}
         self._layout: list[tuple] = []
-        self._spots: dict[tuple, tuple] = {}  # (group, index) -> (reserved w, rows, x, y, lead)
-        self._view_key: tuple | None = None
+        # (group, index) -> [name, reason, reserved w, rows, w, x, y, lead]
+        self._entries: dict[tuple, list] = {}
+        self._placer: _Placer | None = None
+        self._base_key: tuple | None = None
         self._prepared: tuple | None = None
         self._version = 0
+        self._anchor_version = 0
         self.max_labels = 150
 
     def set_group(self, group, xy: np.ndarray, names: list[str], reasons: list[str]) -> None:
@@ -445,11 +465,13 @@ class LabelsItem(pg.GraphicsObject):
         same_xy = old is not None and old[0].shape == xy.shape and np.array_equal(old[0], xy)
         if same_xy and old[1] == names and old[2] == reasons:
             return
-        if not same_xy or len(names) != len(old[1]):
-            # Anchors moved: this group's labels are placed afresh.
-            self._spots = {k: v for k, v in self._spots.items() if k[0] != group}
+        if same_xy and len(names) == len(old[1]):
+            anchors = old[4]
+        else:
+            self._anchor_version += 1  # anchors moved: lay out afresh
+            anchors = self._anchor_version
         failing = np.array([bool(r) for r in reasons], dtype=bool)
-        self._groups[group] = (xy, list(names), list(reasons), failing)
+        self._groups[group] = (xy, list(names), list(reasons), failing, anchors)
         if len(self._images) > 5000:  # images of long-gone labels
             self._images.clear()
             self._widths.clear()
@@ -462,9 +484,15 @@ class LabelsItem(pg.GraphicsObject):
         for g in gone:
             del self._groups[g]
         if gone:
-            self._spots = {k: v for k, v in self._spots.items() if k[0] in self._groups}
+            self._anchor_version += 1
             self._version += 1
             self.update()
+
+    def relayout(self) -> None:
+        """Lay every label out afresh on the next paint (e.g. when a drag ends)."""
+        self._base_key = None
+        self._version += 1
+        self.update()
 
     def placed(self) -> list[tuple]:
         """Last layout: (x, y, width, height, name, reason, leader) per label, in pixels."""
@@ -522,20 +550,13 @@ class LabelsItem(pg.GraphicsObject):
         self._images[key] = img
         return img
 
-    def _prepare(self, tr: QTransform, vr: QRectF | None) -> None:
-        self._layout = []
-        view_key = (tr.m11(), tr.m12(), tr.m21(), tr.m22(), tr.dx(), tr.dy())
-        if view_key != self._view_key:
-            self._view_key = view_key
-            self._spots = {}
-        devs = {}
-        picks = []  # (group, indices of candidates, failing mask of those)
+    def _wanted(self, vr: QRectF | None) -> tuple[list[tuple], bool]:
+        """Labels to show, reasons first: ((group, index, name, reason) list, names shown)."""
+        picks = []
         total = 0
-        for g, (xy, _names, _reasons, _failing) in self._groups.items():
+        for g, (xy, _names, _reasons, failing, _a) in self._groups.items():
             if not len(xy):
                 continue
-            dev = _to_device(tr, xy)
-            devs[g] = dev
             inside = np.ones(len(xy), dtype=bool)
             if vr is not None:
                 inside = (
@@ -544,75 +565,80 @@ class LabelsItem(pg.GraphicsObject):
                     & (xy[:, 1] >= vr.top())
                     & (xy[:, 1] <= vr.bottom())
                 )
-            picks.append((g, inside))
+            picks.append((g, inside, failing))
             total += int(np.count_nonzero(inside))
-        show_names = True
-        # When crowded, names of feasible targets give way so failure reasons stay legible.
         crowded = total > self.max_labels
-        order: list[tuple] = []  # (group, index, failing)
-        for g, inside in picks:
-            failing = self._groups[g][3]
-            order.extend((g, int(i), True) for i in np.flatnonzero(inside & failing))
+        out: list[tuple] = []
+        for g, inside, failing in picks:
+            reasons = self._groups[g][2]
+            out.extend((g, int(i), "", reasons[i]) for i in np.flatnonzero(inside & failing))
+        # When crowded, names of feasible targets give way so failure reasons stay legible.
         if crowded:
-            order = order[: self.max_labels]
-            show_names = len(order) <= self.max_labels // 2
+            out = out[: self.max_labels]
+            show_names = len(out) <= self.max_labels // 2
         else:
-            for g, inside in picks:
-                failing = self._groups[g][3]
-                order.extend((g, int(i), False) for i in np.flatnonzero(inside & ~failing))
+            show_names = True
+            for g, inside, failing in picks:
+                out.extend((g, int(i), "", "") for i in np.flatnonzero(inside & ~failing))
+        if show_names:
+            out = [(g, i, self._groups[g][1][i], r) for g, i, _n, r in out]
+        return out, show_names
+
+    def _prepare(self, tr: QTransform, vr: QRectF | None) -> None:
         h = self._fm.height()
-        vb = self.getViewBox()
-        size = (vb.width() + 200, vb.height() + 200) if vb is not None else (4000.0, 4000.0)
-        placer = _Placer(*size)
-        for dev in devs.values():
-            placer.block_points(dev, MARKER_HALF)
-        entries = []
-        for g, i, failing in order:
-            _xy, names, reasons, _f = self._groups[g]
-            name = names[i] if show_names else ""
-            reason = reasons[i] if failing else ""
-            if not (name or reason):
-                continue
+        view_key = (tr.m11(), tr.m12(), tr.m21(), tr.m22(), tr.dx(), tr.dy())
+        wanted, show_names = self._wanted(vr)
+        base_key = (view_key, tuple((g, v[4]) for g, v in self._groups.items()), show_names)
+        if base_key != self._base_key or self._placer is None:
+            # Full layout: markers block their squares, then every label is placed.
+            self._base_key = base_key
+            vb = self.getViewBox()
+            size = (vb.width() + 200, vb.height() + 200) if vb is not None else (4000.0, 4000.0)
+            self._placer = _Placer(*size)
+            self._entries = {}
+            self._devs = {}
+            for g, (xy, *_rest) in self._groups.items():
+                if len(xy):
+                    self._devs[g] = _to_device(tr, xy)
+                    self._placer.block_points(self._devs[g], MARKER_HALF)
+        placer = self._placer
+        keep = {(g, i) for g, i, _n, _r in wanted}
+        # Gone labels leave their space blocked until the next full layout: no label moves.
+        for key in [k for k in self._entries if k not in keep]:
+            del self._entries[key]
+        for g, i, name, reason in wanted:
             w = max(
                 self._width(False, name) if name else 0.0,
                 self._width(True, reason) if reason else 0.0,
             )
             rows = int(bool(name)) + int(bool(reason))
             # Widths reserved in 24 px steps, so changing numbers rarely move a label.
-            entries.append((g, i, name, reason, math.ceil(w / 24.0) * 24.0, rows, w))
-        # Labels that keep their reserved size keep their spot (stable during a drag).
-        spots: dict[tuple, tuple] = {}
-        todo = []
-        for e in entries:
-            old = self._spots.get((e[0], e[1]))
-            if old is not None and old[0] == e[4] and old[1] == e[5]:
-                placer.block(old[2], old[3], old[2] + e[4], old[3] + h * e[5])
-                spots[(e[0], e[1])] = old
-            else:
-                todo.append(e)
-        for g, i, _name, reason, w, rows, _w in todo:
+            rw = math.ceil(w / 24.0) * 24.0
+            e = self._entries.get((g, i))
+            if e is not None and e[2] == rw and e[3] == rows:
+                e[0], e[1], e[4] = name, reason, w
+                continue
             bh = h * rows
-            ax, ay = float(devs[g][i, 0]), float(devs[g][i, 1])
+            ax, ay = float(self._devs[g][i, 0]), float(self._devs[g][i, 1])
             gap = LABEL_GAP
             options = (
                 (ax + gap, ay - h / 2),
-                (ax - gap - w, ay - h / 2),
-                (ax - w / 2, ay + gap),
-                (ax - w / 2, ay - gap - bh),
+                (ax - gap - rw, ay - h / 2),
+                (ax - rw / 2, ay + gap),
+                (ax - rw / 2, ay - gap - bh),
             )
-            spot = next((c for c in options if placer.free(c[0], c[1], c[0] + w, c[1] + bh)), None)
+            spot = next((c for c in options if placer.free(c[0], c[1], c[0] + rw, c[1] + bh)), None)
             if spot is None:
+                self._entries.pop((g, i), None)
                 if not reason:
                     continue  # a crowded name gives way; the tooltip and tables still show it
                 spot = options[0]
-            placer.block(spot[0], spot[1], spot[0] + w, spot[1] + bh)
+            placer.block(spot[0], spot[1], spot[0] + rw, spot[1] + bh)
             lead = None if spot == options[0] else (ax, ay)
-            spots[(g, i)] = (w, rows, spot[0], spot[1], lead)
-        self._spots = spots
-        for g, i, name, reason, _rw, rows, w in entries:
-            if (g, i) in spots:
-                _r1, _r2, sx, sy, lead = spots[(g, i)]
-                self._layout.append((sx, sy, w, h * rows, name, reason, lead))
+            self._entries[(g, i)] = [name, reason, rw, rows, w, spot[0], spot[1], lead]
+        self._layout = [
+            (e[5], e[6], e[4], h * e[3], e[0], e[1], e[7]) for e in self._entries.values()
+        ]
 
     def paint(self, painter, option, widget=None) -> None:
         tr = painter.transform()
