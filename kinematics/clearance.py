@@ -26,7 +26,17 @@ from functools import lru_cache
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from .bodies import BASE, TOOL, ArmBodies, Body, arm_bodies, frames, link_blocking, tool_blocking
+from .bodies import (
+    BASE,
+    LINK1,
+    TOOL,
+    ArmBodies,
+    Body,
+    arm_bodies,
+    frames,
+    link_blocking,
+    tool_blocking,
+)
 from .cell import Arm, Fixture
 
 __all__ = [
@@ -37,6 +47,12 @@ __all__ = [
     "segment_polygon_distance",
     "body_fixture_clearance",
 ]
+
+
+# Elements per temporary array in the kernels: numpy temporaries above roughly 128 KB are
+# fresh memory maps on every call (glibc), several times slower per element.
+CHUNK = 4096
+SEARCH_CHUNK = 16384
 
 
 class FixtureSet:
@@ -217,45 +233,83 @@ def _seg_depth(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
     """How deep the deepest point of segments a-b (n, 2) lies inside polygons V (n, E, 2).
 
     Candidates are the segment ends and every parameter t where the squared distances
-    to two features (vertices, edge lines) are equal; the true distance to the outline
+    to two features (reflex vertices, edge lines) are equal; the true distance to the outline
     is evaluated at each candidate and the largest one inside the polygon is returned
-    (0 when no candidate is inside).
+    (0 when no candidate is inside). Ties farther from the segment than the distance to
+    the outline can ever be (at most the larger end distance to any one edge) are skipped.
     """
     n, E = V.shape[:2]
-    d = b - a
-    Q = np.roll(V, -1, axis=1)
-    w = a[:, None, :] - V
-    dd = np.sum(d * d, axis=1)
-    av = np.broadcast_to(dd[:, None], (n, E))
-    bv = 2.0 * np.sum(w * d[:, None, :], axis=2)
-    cv = np.sum(w * w, axis=2)
-    e = Q - V
-    length = np.hypot(e[..., 0], e[..., 1])
+    ax, ay = a[:, 0:1], a[:, 1:2]
+    dx, dy = b[:, 0:1] - ax, b[:, 1:2] - ay
+    Px, Py = V[..., 0], V[..., 1]
+    Qx, Qy = np.roll(Px, -1, axis=1), np.roll(Py, -1, axis=1)
+    ex, ey = Qx - Px, Qy - Py
+    length = np.hypot(ex, ey)
     length = np.where(length > 0, length, 1.0)
-    nrm = np.stack([-e[..., 1], e[..., 0]], axis=-1) / length[..., None]
-    alpha = np.sum(nrm * w, axis=2)
-    beta = np.sum(nrm * d[:, None, :], axis=2)
-    A = np.concatenate([av, beta * beta], axis=1)
-    B = np.concatenate([bv, 2.0 * alpha * beta], axis=1)
-    C = np.concatenate([cv, alpha * alpha], axis=1)
-    iu, ju = np.triu_indices(2 * E, 1)
+    nx, ny = -ey / length, ex / length
+    alpha = nx * (ax - Px) + ny * (ay - Py)
+    beta = nx * dx + ny * dy
+    # Inside a polygon the nearest outline point is on an edge or at a reflex vertex
+    # (a disc inside the polygon cannot touch a convex corner), so only those compete.
+    area = np.sum(Px * Qy - Qx * Py, axis=1, keepdims=True)
+    turn = np.roll(ex, 1, axis=1) * ey - np.roll(ey, 1, axis=1) * ex  # at vertex k
+    reflex = turn * np.sign(area) < 0
+    R = max(1, int(reflex.sum(axis=1).max()))
+    order = np.argsort(~reflex, axis=1, kind="stable")[:, :R]
+    rmask = np.take_along_axis(reflex, order, axis=1)
+    rx, ry = np.take_along_axis(Px, order, axis=1), np.take_along_axis(Py, order, axis=1)
+    wx, wy = ax - rx, ay - ry
+    A = np.concatenate([beta * beta, np.broadcast_to(dx * dx + dy * dy, (n, R))], axis=1)
+    B = np.concatenate([2.0 * alpha * beta, 2.0 * (wx * dx + wy * dy)], axis=1)
+    C = np.concatenate([alpha * alpha, np.where(rmask, wx * wx + wy * wy, 1e200)], axis=1)
+    # The distance to the outline never exceeds the distance to any one edge, which is
+    # largest at an end of the segment (convex in t).
+    bx_, by_ = ax + dx, ay + dy
+    u2 = np.min(
+        np.maximum(_pt_seg2_xy(ax, ay, Px, Py, Qx, Qy), _pt_seg2_xy(bx_, by_, Px, Py, Qx, Qy)),
+        axis=1,
+    )
+    # Nor can it exceed half the smaller side of the polygon's bounding box.
+    x0, x1 = Px.min(axis=1, keepdims=True), Px.max(axis=1, keepdims=True)
+    y0, y1 = Py.min(axis=1, keepdims=True), Py.max(axis=1, keepdims=True)
+    half = 0.5 * np.minimum(x1 - x0, y1 - y0)[:, 0]
+    u2 = np.minimum(u2, half * half)
+    iu, ju = np.triu_indices(E + R, 1)
     dA, dB, dC = A[:, iu] - A[:, ju], B[:, iu] - B[:, ju], C[:, iu] - C[:, ju]
-    disc = dB * dB - 4.0 * dA * dC
+    with np.errstate(over="ignore", invalid="ignore"):
+        disc = dB * dB - 4.0 * dA * dC
     root = np.sqrt(np.where(disc >= 0, disc, 0.0))
     qq = -0.5 * (dB + np.where(dB >= 0, root, -root))
     ok = (disc >= 0) & (qq != 0)
     qs = np.where(ok, qq, 1.0)
-    t1 = np.where(ok & (dA != 0), qs / np.where(dA != 0, dA, 1.0), np.nan)
-    t2 = np.where(ok, dC / qs, np.nan)
-    ends = np.broadcast_to(np.array([0.0, 1.0]), (n, 2))
-    t = np.concatenate([ends, t1, t2], axis=1)
-    t = np.where((t >= 0) & (t <= 1), t, np.nan)
-    valid = ~np.isnan(t)
-    t = np.where(valid, t, 0.0)
-    pts = a[:, None, :] + t[..., None] * d[:, None, :]
-    f2 = _pt_seg2(pts[:, :, None, :], V[:, None, :, :], Q[:, None, :, :]).min(axis=2)
-    inside = _pip(pts, V[:, None, :, :]) & valid
-    return np.sqrt(np.max(np.where(inside, f2, 0.0), axis=1))
+    with np.errstate(over="ignore", invalid="ignore"):
+        t1 = np.where(ok & (dA != 0), qs / np.where(dA != 0, dA, 1.0), np.nan)
+        t2 = np.where(ok, dC / qs, np.nan)
+        tt = np.concatenate([t1, t2], axis=1)
+        tt = np.where((tt >= 0) & (tt <= 1), tt, np.nan)
+    Ai, Bi, Ci = (np.concatenate([m[:, iu], m[:, iu]], axis=1) for m in (A, B, C))
+    with np.errstate(over="ignore", invalid="ignore"):
+        g = (Ai * tt + Bi) * tt + Ci
+        keep = g <= u2[:, None] * (1 + 1e-9) + 1e-18
+        # Only points inside the polygon's box can be inside the polygon.
+        cx, cy = ax + tt * dx, ay + tt * dy
+        keep &= (cx >= x0) & (cx <= x1) & (cy >= y0) & (cy <= y1)
+    rows_all, _ = np.nonzero(keep)
+    rows_all = np.concatenate([np.arange(n), np.arange(n), rows_all])
+    t_all = np.concatenate([np.zeros(n), np.ones(n), tt[keep]])
+    depth2 = np.zeros(n)
+    step = max(1, CHUNK // E)
+    for k in range(0, len(rows_all), step):
+        rows, t = rows_all[k : k + step], t_all[k : k + step]
+        px = (ax[rows, 0] + t * dx[rows, 0])[:, None]
+        py = (ay[rows, 0] + t * dy[rows, 0])[:, None]
+        Pxr, Pyr, Qxr, Qyr = Px[rows], Py[rows], Qx[rows], Qy[rows]
+        f2 = _pt_seg2_xy(px, py, Pxr, Pyr, Qxr, Qyr).min(axis=1)
+        cond = (Pyr > py) != (Qyr > py)
+        xint = Pxr + (py - Pyr) * (Qxr - Pxr) / np.where(cond, Qyr - Pyr, 1.0)
+        inside = (np.count_nonzero(cond & (px < xint), axis=1) % 2) == 1
+        np.maximum.at(depth2, rows, np.where(inside, f2, 0.0))
+    return np.sqrt(depth2)
 
 
 def _seg_depth_convex(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
@@ -297,7 +351,7 @@ def _pt_seg2_xy(xx, xy, px, py, qx, qy):  # noqa: ANN001, ANN202 - hot path, arr
 
 
 def _capsule_rows(
-    ax: NDArray, ay: NDArray, bx: NDArray, by: NDArray, r: float, edges: tuple, convex: bool
+    ax: NDArray, ay: NDArray, bx: NDArray, by: NDArray, r: NDArray, edges: tuple, convex: bool
 ) -> NDArray:
     """Signed distance of capsules (segment rows a-b, radius r) to fixture rows."""
     Px, Py, Qx, Qy, Nx, Ny = edges
@@ -332,7 +386,7 @@ def _capsule_rows(
             b = np.stack([bx[k], by[k]], axis=1)
             V = np.stack([Px[k], Py[k]], axis=-1)
             depth = _seg_depth(a, b, V)
-        sd[k] = -depth - r
+        sd[k] = -depth - r[k]
     return sd
 
 
@@ -474,19 +528,28 @@ def _exact(posed: _Posed, fs: FixtureSet, p: NDArray, f: NDArray) -> NDArray:
     """Exact signed distances of one body at poses ``p`` to fixtures ``f`` (row pairs)."""
     sd = np.empty(len(p))
     if posed.body.kind == "capsule":
-        a, b = posed.a[p], posed.b[p]
-        for rows, edges, convex in fs.edges(f):
-            sd[rows] = _capsule_rows(
-                a[rows, 0], a[rows, 1], b[rows, 0], b[rows, 1], posed.body.radius, edges, convex
-            )
+        r = np.full(len(p), posed.body.radius)
+        return _capsules(posed.a[p], posed.b[p], r, fs, f)
     else:
         for rows, V, convex in fs.vertices(f):
             sd[rows] = _polygon_sd(posed.W[p[rows]], V, convex)
     return sd
 
 
-def _lower_bounds(pb: _Posed, fs: FixtureSet, out: NDArray, slack: float) -> None:
-    """Lower bounds (P, F) on the signed distance of one posed body to every fixture."""
+def _lower_bounds(
+    pb: _Posed,
+    fs: FixtureSet,
+    fidx: NDArray[np.int64],
+    out: NDArray,
+    upper: NDArray,
+    slack: float,
+) -> None:
+    """Lower and upper bounds (P, len(fidx)) on the signed distance of one posed body to
+    fixtures fidx, written to ``out`` and ``upper``.
+
+    The upper bound is the distance to the fixture's box centre plus its circle radius:
+    some outline vertex is no farther than that.
+    """
     if pb.body.kind == "capsule":
         # Segment to the fixture's bounding circle, less both radii, never below the
         # deepest possible penetration; single precision halves the memory traffic and
@@ -494,8 +557,8 @@ def _lower_bounds(pb: _Posed, fs: FixtureSet, out: NDArray, slack: float) -> Non
         r = pb.body.radius
         f32 = np.float32
         ax, ay = pb.a[:, 0:1].astype(f32), pb.a[:, 1:2].astype(f32)
-        wx = fs.centre32[0] - ax
-        wy = fs.centre32[1] - ay
+        wx = fs.centre32[0][:, fidx] - ax
+        wy = fs.centre32[1][:, fidx] - ay
         if pb.body.a != pb.body.b:
             dx, dy = pb.b[:, 0:1].astype(f32) - ax, pb.b[:, 1:2].astype(f32) - ay
             dd = dx * dx + dy * dy
@@ -510,17 +573,24 @@ def _lower_bounds(pb: _Posed, fs: FixtureSet, out: NDArray, slack: float) -> Non
         wy *= wy
         wx += wy
         np.sqrt(wx, out=wx)
-        wx -= fs.radius32 + f32(r + slack)
-        np.maximum(wx, (-(r + slack + fs.half_min)).astype(f32), out=wx)
-        out[...] = wx
+        rad = fs.radius32[fidx]
+        np.add(wx, rad + f32(slack - r), out=upper)
+        wx -= rad + f32(r + slack)
+        np.maximum(wx, (-(r + slack + fs.half_min[fidx])).astype(f32), out=out)
     else:
-        fb, bb = fs.bbox, pb.bbox
+        fb, bb = fs.bbox[fidx], pb.bbox
         gx = np.maximum(fb[None, :, 0] - bb[:, 2:3], bb[:, 0:1] - fb[None, :, 2])
         gy = np.maximum(fb[None, :, 1] - bb[:, 3:4], bb[:, 1:2] - fb[None, :, 3])
         sep = (gx > 0) | (gy > 0)
         gap = np.hypot(np.maximum(gx, 0.0), np.maximum(gy, 0.0))
-        deep = np.maximum(pb.half_min[:, None], fs.half_min[None, :])
+        deep = np.maximum(pb.half_min[:, None], fs.half_min[fidx][None, :])
         out[...] = np.where(sep, gap, -deep) - slack
+        bc = 0.5 * (bb[:, 0:2] + bb[:, 2:4])
+        br = 0.5 * np.hypot(bb[:, 2] - bb[:, 0], bb[:, 3] - bb[:, 1])
+        cc = np.hypot(
+            bc[:, 0:1] - fs.centre[fidx][None, :, 0], bc[:, 1:2] - fs.centre[fidx][None, :, 1]
+        )
+        upper[...] = cc + br[:, None] + fs.radius[fidx][None, :] + slack
 
 
 @dataclass(frozen=True)
@@ -544,6 +614,124 @@ class PoseClearance:
     collides: NDArray[np.bool_]
     fixture: NDArray[np.int64]
     body: NDArray[np.int64]
+
+
+def _base_extent(bodies: ArmBodies, pb: _Posed) -> float:
+    """Largest distance of any point of a moving body from the base."""
+    body = pb.body
+    if body.frame == LINK1:
+        return body.extent
+    pts = np.array([body.a, body.b]) if body.kind == "capsule" else np.asarray(body.outline)
+    if body.frame == TOOL:
+        pts = pts + [bodies.arm.a2, 0.0]
+    return bodies.arm.a1 + float(np.max(np.hypot(pts[:, 0], pts[:, 1]))) + body.radius
+
+
+def _take(pb: _Posed, idx: NDArray[np.int64]) -> _Posed:
+    return _slice(pb, idx)
+
+
+def _slice(pb: _Posed, sl: slice | NDArray[np.int64]) -> _Posed:
+    return _Posed(
+        pb.body,
+        None if pb.a is None else pb.a[sl],
+        None if pb.b is None else pb.b[sl],
+        None if pb.W is None else pb.W[sl],
+        pb.bbox[sl],
+        pb.half_min[sl],
+    )
+
+
+def _search(
+    posed: list[_Posed],
+    fs: FixtureSet,
+    fidx: NDArray[np.int64],
+    link_mask: NDArray[np.bool_],
+    tmask: NDArray[np.bool_],
+    vidx: NDArray[np.int64],
+    slack: float,
+    cur: NDArray,
+    cur_b: NDArray,
+    cur_f: NDArray,
+) -> None:
+    """Improve each pose's best (cur, cur_b, cur_f, updated in place) over fixtures fidx."""
+    step = max(1, SEARCH_CHUNK // len(fidx))
+    if len(vidx) > step:
+        for k in range(0, len(vidx), step):
+            sl = slice(k, k + step)
+            part = [_slice(pb, sl) for pb in posed]
+            _search(
+                part, fs, fidx, link_mask, tmask, vidx[sl], slack, cur[sl], cur_b[sl], cur_f[sl]
+            )
+        return
+    nb, P, F = len(posed), len(vidx), len(fidx)
+    lb = np.empty((nb, P, F), dtype=np.float32)
+    ub = np.empty((nb, P, F), dtype=np.float32)
+    for j, pb in enumerate(posed):
+        _lower_bounds(pb, fs, fidx, lb[j], ub[j], slack)
+        if pb.body.frame != TOOL:
+            mask = link_mask[fidx][None, :]
+        else:
+            mask = tmask[vidx][:, fidx] if tmask.ndim > 1 else tmask[fidx][None, :]
+        if not mask.all():
+            np.copyto(lb[j], np.inf, where=~mask)
+            np.copyto(ub[j], np.inf, where=~mask)
+    # Every pair whose lower bound does not exceed the pose's smallest upper bound.
+    bound = np.minimum(ub.min(axis=(0, 2)), cur.astype(np.float32))
+    cb, cp, cf = np.nonzero(lb <= bound[None, :, None])
+    if len(cp):
+        sd2 = _exact_many(posed, fs, cb, cp, fidx[cf])
+        order = np.lexsort((sd2, cp))
+        cp_s = cp[order]
+        head = np.ones(len(cp_s), dtype=bool)
+        head[1:] = cp_s[1:] != cp_s[:-1]
+        pick = order[head]
+        hp = cp[pick]
+        better = sd2[pick] < cur[hp]
+        hp, pick = hp[better], pick[better]
+        cur[hp] = sd2[pick]
+        cur_b[hp] = cb[pick]
+        cur_f[hp] = fidx[cf[pick]]
+
+
+def _exact_many(
+    posed: list[_Posed], fs: FixtureSet, jb: NDArray, p: NDArray, f: NDArray
+) -> NDArray:
+    """Exact signed distances for rows (body jb, pose p, fixture f); capsules in one go."""
+    sd = np.empty(len(p))
+    is_cap = np.array([pb.body.kind == "capsule" for pb in posed])
+    rows = np.flatnonzero(is_cap[jb])
+    if len(rows):
+        zero = np.zeros((len(posed[0].bbox), 2))
+        A = np.stack([pb.a if pb.a is not None else zero for pb in posed])
+        B = np.stack([pb.b if pb.b is not None else zero for pb in posed])
+        R = np.array([pb.body.radius for pb in posed])
+        a, b, r = A[jb[rows], p[rows]], B[jb[rows], p[rows]], R[jb[rows]]
+        sd[rows] = _capsules(a, b, r, fs, f[rows])
+    for j in np.flatnonzero(~is_cap):
+        rj = np.flatnonzero(jb == j)
+        if len(rj):
+            sd[rj] = _exact(posed[j], fs, p[rj], f[rj])
+    return sd
+
+
+def _capsules(a: NDArray, b: NDArray, r: NDArray, fs: FixtureSet, f: NDArray) -> NDArray:
+    """Signed distances of capsule rows (ends a, b, radii r) to fixtures f."""
+    sd = np.empty(len(a))
+    for rows, edges, convex in fs.edges(f):
+        step = max(1, CHUNK // edges[0].shape[1])
+        for k in range(0, len(rows), step):
+            rr = rows[k : k + step]
+            sd[rr] = _capsule_rows(
+                a[rr, 0],
+                a[rr, 1],
+                b[rr, 0],
+                b[rr, 1],
+                r[rr],
+                tuple(None if e is None else e[k : k + step] for e in edges),
+                convex,
+            )
+    return sd
 
 
 def pose_clearance(
@@ -601,61 +789,36 @@ def pose_clearance(
         best[better], best_f[better], best_b[better] = sd[j], fidx[j], k
 
     vidx = np.flatnonzero(valid)
-    if F and moving and len(vidx):
+    tool_any = tmask if tmask.ndim == 1 else tmask.any(axis=0)
+    cand = np.flatnonzero(link_mask | tool_any)
+    if len(cand) and moving and len(vidx):
         qv = q[vidx]
-        P = len(vidx)
         posed = _pose_bodies(bodies, qv, [bodies.bodies[k] for k in moving])
-        nb = len(moving)
         # Allowance for single-precision rounding in the broad phase (cell units).
         arm = bodies.arm
         span = max(float(np.max(np.abs(fixtures.bbox))), abs(arm.x) + abs(arm.y))
         span += 2.0 * (arm.reach_max + max(b.extent for b in bodies.bodies))
         slack = 1e-5 * (span + 1.0)
-        lb = np.empty((nb, P, F), dtype=np.float32)
-        for j, pb in enumerate(posed):
-            _lower_bounds(pb, fixtures, lb[j], slack)
-            if pb.body.frame != TOOL:
-                mask = link_mask[None, :]
-            else:
-                mask = tmask[vidx] if tmask.ndim > 1 else tmask[None, :]
-            if not mask.all():
-                np.copyto(lb[j], np.inf, where=~mask)
-        # Pass 1: each pose's most promising pair gives an upper bound on its clearance.
-        arg_f = np.argmin(lb, axis=2)  # (nb, P)
-        val = np.take_along_axis(lb, arg_f[..., None], axis=2)[..., 0]
-        first_b = np.argmin(val, axis=0)
-        ar = np.arange(P)
-        first_f = arg_f[first_b, ar]
-        has = np.isfinite(val[first_b, ar])
-        cur = np.full(P, np.inf)
-        for j in range(nb):
-            sel = np.flatnonzero(has & (first_b == j))
-            if len(sel):
-                cur[sel] = _exact(posed[j], fixtures, sel, first_f[sel])
-        cur_b = np.where(has, first_b, -1)
-        cur_f = np.where(has, first_f, -1)
-        ub = np.minimum(best[vidx], cur)
-        # Pass 2: only pairs whose lower bound beats the pose's best so far.
-        lb[first_b, ar, first_f] = np.inf
-        cb, cp, cf = np.nonzero(lb < ub.astype(np.float32)[None, :, None])
-        if len(cp):
-            sd2 = np.empty(len(cp))
-            for j in range(nb):
-                sel = np.flatnonzero(cb == j)
-                if len(sel):
-                    sd2[sel] = _exact(posed[j], fixtures, cp[sel], cf[sel])
-            order = np.lexsort((sd2, cp))
-            cp_s = cp[order]
-            head = np.ones(len(cp_s), dtype=bool)
-            head[1:] = cp_s[1:] != cp_s[:-1]
-            pick = order[head]
-            hp = cp[pick]
-            better = sd2[pick] < cur[hp]
-            hp, pick = hp[better], pick[better]
-            cur[hp] = sd2[pick]
-            cur_b[hp] = cb[pick]
-            cur_f[hp] = cf[pick]
-        take = cur < best[vidx]
+        # Fixtures beyond every body's reach only matter to poses with nothing nearer:
+        # search the near ones first, then only the far ones that can still win.
+        reach = max(_base_extent(bodies, b) for b in posed)
+        d_base = np.hypot(*(fixtures.centre[cand] - [arm.x, arm.y]).T) - fixtures.radius[cand]
+        near = d_base <= reach
+        cur = best[vidx].copy()
+        cur_b = np.full(len(vidx), -1, dtype=np.int64)
+        cur_f = np.full(len(vidx), -1, dtype=np.int64)
+        if near.any():
+            _search(posed, fixtures, cand[near], link_mask, tmask, vidx, slack, cur, cur_b, cur_f)
+        far = cand[~near]
+        if len(far):
+            # Only poses whose best so far is beyond the nearest far fixture's bound.
+            need = np.flatnonzero(cur > float(np.min(d_base[~near])) - reach)
+            if len(need):
+                part = [_take(pb, need) for pb in posed]
+                c, cb, cf = cur[need], cur_b[need], cur_f[need]
+                _search(part, fixtures, far, link_mask, tmask, vidx[need], slack, c, cb, cf)
+                cur[need], cur_b[need], cur_f[need] = c, cb, cf
+        take = (cur < best[vidx]) & (cur_b >= 0)
         tv = vidx[take]
         best[tv] = cur[take]
         best_f[tv] = cur_f[take]
