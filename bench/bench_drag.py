@@ -5,6 +5,10 @@ offscreen and runs 300 drag steps: ``document.preview`` of the arm moved by a
 small step, ``processEvents`` and a forced synchronous repaint of the view.
 Final line: ``drag: <median> ms (bar: <= 16 ms median)``; the exit status is
 non-zero when the median misses the bar (not enforced with ``--quick``).
+
+Step-by-step previews put the canvas in draft mode, as a real drag does: newly
+drawn lines skip antialiasing and failure labels skip their amounts until the
+changes pause. A first line reports the same drag with every overlay shown.
 """
 
 from __future__ import annotations

@@ -13,7 +13,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, Signal
+from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QActionGroup, QCursor, QPainterPath, QPen
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QHBoxLayout, QMenu, QWidget
 
@@ -72,6 +72,7 @@ PICK_PX = 8.0  # pick radius around points, screen pixels
 SNAP_PX = 10.0  # snap radius to fixture vertices and midpoints, screen pixels
 DRAG_PX = 3.0  # movement before a press becomes a drag
 ANGLE_STEP = 5.0  # heading snap step, degrees
+DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
 
 # Ghost roles: the chosen pose, the other configuration when it also works, and
 # the other configuration when it exists but breaks a limit or the elbow setting.
@@ -163,6 +164,11 @@ class CellCanvas(QWidget):
         self._rect_start: tuple[float, float] | None = None
         self._measure: list[tuple[float, float]] = []
         self._measure_fixed = False
+        self._draft = False
+        self._idle = QTimer(self)
+        self._idle.setSingleShot(True)
+        self._idle.setInterval(DRAFT_IDLE_MS)
+        self._idle.timeout.connect(self._end_draft)
         # Dialog hooks, replaceable in tests (the real ones are modal).
         self.ask_position = dialogs.ask_position
         self.ask_name = dialogs.ask_name
@@ -223,6 +229,7 @@ class CellCanvas(QWidget):
             size=14, pen=pg.mkPen(style.PALETTE["harbour"], width=2.0), brush=None, pxMode=True
         )
         self._add(self._snap_marker, Z_TOOL)
+        self._snap_marker.setVisible(False)
         self.scale_bar = ScaleBar(self.vb, self._units)
         self.scale_bar.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.grid = Grid(
@@ -347,7 +354,7 @@ class CellCanvas(QWidget):
             self._hide_snap()
             if was_active:
                 self.document.cancel_preview()
-                self._refresh_targets()
+                self._end_draft()
                 self._swallow_until_release = True
                 self.status_message.emit("Move cancelled")
             return
@@ -478,7 +485,32 @@ class CellCanvas(QWidget):
         arm = self.document.cell.arm(arm_id)
         self._arm_items[arm_id].set_arm(arm, self._base_radius(arm), 0.45 * arm.a1)
 
+    def _begin_draft(self) -> None:
+        """Draft drawing while the cell changes step by step (a drag, from here or elsewhere).
+
+        Newly drawn lines skip antialiasing and failure labels skip their amounts;
+        both come back once the changes pause (or the drag ends). Cached items
+        keep their smooth look throughout.
+        """
+        self._idle.start()
+        if not self._draft:
+            self._draft = True
+            self.plot.setAntialiasing(False)
+
+    def _end_draft(self) -> None:
+        self._idle.stop()
+        if self._draft:
+            self._draft = False
+            self.plot.setAntialiasing(True)
+            self._refresh_targets()  # amounts back in the failure labels
+            self._labels.relayout()  # and a tidy layout after incremental updates
+            self.plot.viewport().update()
+
     def _on_cell_changed(self, changes: Changes) -> None:
+        if self.document.previewing:
+            self._begin_draft()
+        elif self._draft:
+            self._end_draft()
         if changes.structure:
             self._rebuild()
             return
@@ -561,15 +593,30 @@ class CellCanvas(QWidget):
 
     def _reason_texts(self, ev: ArmEvaluation) -> list[str]:
         """Why each target fails, with the amount when the engine reports one (cached)."""
-        # While a drag previews, amounts are left out: they would change on every step and
-        # redrawing ~100 texts per step costs more than a frame. They return on release.
-        amounts = not self.document.previewing
+        # In draft mode (a drag in progress) amounts are left out: they would change on every
+        # step and redrawing ~100 texts per step costs more than a frame.
+        amounts = not self._draft
         cached = self._reason_cache.get(ev.arm.id)
         if cached is not None and cached[0] is ev and cached[2] == amounts:
             return cached[1]
-        out = [""] * len(ev.target_ids)
-        bad = np.flatnonzero(~np.asarray(ev.feasible, dtype=bool))
-        if len(bad):
+        status = np.asarray(ev.status, dtype=np.int64)
+        feasible = np.asarray(ev.feasible, dtype=bool)
+        # Plain reasons by lookup (the draft case, every drag step).
+        plain = {
+            int(st): f"{style.status_style(st).glyph} "
+            + (
+                f"only the {ev.arm.elbow} elbow is allowed"
+                if st is Status.ELBOW_EXCLUDED
+                else REASONS[st]
+            )
+            for st in Status
+        }
+        out = [
+            ("" if ok else plain[st])
+            for ok, st in zip(feasible.tolist(), status.tolist(), strict=True)
+        ]
+        bad = np.flatnonzero(~feasible)
+        if amounts and len(bad):
             u = _UNITS_WORD.get(self._units, self._units)
             ik = ev.ik
             reach = np.abs(np.asarray(ik.reach_margin, dtype=float))
@@ -579,18 +626,12 @@ class CellCanvas(QWidget):
                 np.nan_to_num(np.asarray(ik.limit_margin_deg, dtype=float), nan=-np.inf),
                 -np.inf,
             ).max(axis=-1)
-            for i in bad:
-                st = Status(int(ev.status[i]))
-                text = REASONS[st]
-                if not amounts:
-                    pass
-                elif st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
-                    text = f"{text} by {reach[i]:.4g} {u}"
+            for i in bad.tolist():
+                st = Status(int(status[i]))
+                if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
+                    out[i] = f"{plain[st]} by {reach[i]:.4g} {u}"
                 elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT) and math.isfinite(lm[i]):
-                    text = f"{text}, {abs(float(lm[i])):.1f}° past"
-                if st is Status.ELBOW_EXCLUDED:
-                    text = f"only the {ev.arm.elbow} elbow is allowed"
-                out[int(i)] = f"{style.status_style(st).glyph} {text}"
+                    out[i] = f"{plain[st]}, {abs(float(lm[i])):.1f}° past"
         self._reason_cache[ev.arm.id] = (ev, out, amounts)
         return out
 
@@ -674,7 +715,7 @@ class CellCanvas(QWidget):
             item = QGraphicsPathItem()
             item.setPen(self._ghost_pen(ELBOWS[c], role))
             item.setData(0, f"ghost.{role}.{ELBOWS[c]}:{aid}")
-            self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0), cache=True)
+            self._add(item, Z_GHOST + (0.5 if role == "chosen" else 0.0))
             self._ghost_items[key] = item
         return item
 
@@ -1076,8 +1117,7 @@ class CellCanvas(QWidget):
                 self._finish_rectangle(d.start, (s.x, s.y), d.active)
             elif d.active:
                 self.document.commit_preview(d.label)
-                self._refresh_targets()  # amounts back in the failure labels
-                self._labels.relayout()  # and a tidy layout after incremental updates
+                self._end_draft()
                 self.status_message.emit(f"{d.label} — {self._reach_summary()}")
             return True
         if self._empty_press is not None:

@@ -155,11 +155,14 @@ class ArmItem(pg.GraphicsObject):
         self.arrow = 1.0
         self.name = ""
         self.selected = False
+        self._bounds: QRectF | None = None
         self._font = QFont()
         self._font.setBold(True)
 
     def set_arm(self, arm, radius: float, arrow: float) -> None:
         self.prepareGeometryChange()
+        if (arm.name, float(radius), float(arrow)) != (self.name, self.radius, self.arrow):
+            self._bounds = None
         self.x, self.y, self.heading = float(arm.x), float(arm.y), float(arm.heading_deg)
         self.radius, self.arrow, self.name = float(radius), float(arrow), arm.name
         self.update()
@@ -177,16 +180,17 @@ class ArmItem(pg.GraphicsObject):
     def viewTransformChanged(self) -> None:
         super().viewTransformChanged()
         self.prepareGeometryChange()  # the pixel-sized name and marks change world size
+        self._bounds = None
 
     def boundingRect(self) -> QRectF:
-        # The name and pixel-sized marks extend past the footprint: add a margin in pixels.
-        vx, _vy = self.pixelVectors()
-        px = math.hypot(vx.x(), vx.y()) if vx is not None else 0.0
-        r = max(self.radius, self.arrow) + 20.0 * px + self._name_px() * px
-        return QRectF(self.x - r, self.y - r, 2 * r, 2 * r)
-
-    def _name_px(self) -> float:
-        return QFontMetricsF(self._font).horizontalAdvance(self.name) + 30.0
+        if self._bounds is None:
+            # The name and pixel-sized marks extend past the footprint: a margin in pixels.
+            vx, _vy = self.pixelVectors()
+            px = math.hypot(vx.x(), vx.y()) if vx is not None else 0.0
+            name_px = QFontMetricsF(self._font).horizontalAdvance(self.name) + 50.0
+            r = max(self.radius, self.arrow) + name_px * px
+            self._bounds = QRectF(-r, -r, 2 * r, 2 * r)
+        return self._bounds.translated(self.x, self.y)
 
     def paint(self, painter, option, widget=None) -> None:
         painter.setRenderHint(painter.RenderHint.Antialiasing, True)

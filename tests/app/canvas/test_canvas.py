@@ -584,3 +584,25 @@ def test_polygon_tool_escape_double_click_and_refusal(qtbot, canvas, rec):
     qtbot.mouseDClick(canvas.viewport(), Qt.MouseButton.LeftButton, pos=_vp(canvas, -700.0, 700.0))
     assert len(doc.cell.fixtures) == 3
     assert doc.cell.fixtures[-1].outline == ((-800.0, 400.0), (-600.0, 600.0), (-600.0, 400.0))
+
+
+def test_previews_from_elsewhere_return_to_full_labels_after_a_pause(qtbot, canvas, rec):
+    doc = rec.doc
+    doc.edit(
+        "far",
+        replace(doc.cell, targets=doc.cell.targets + (Target("t9", "Far", 700.0, 240.0, "a"),)),
+    )
+    arm = doc.cell.arm("a")
+    doc.preview(replace(doc.cell, arms=(replace(arm, x=-30.0),)))  # e.g. a panel's spin box
+    canvas.grab()
+    assert _labels_of(canvas)["Far"] == "✕ beyond outer reach"
+    over = math.hypot(700.0 + 30.0, 240.0) - (arm.a1 + arm.a2)
+    qtbot.waitUntil(
+        lambda: (
+            (canvas.grab(), _labels_of(canvas).get("Far"))[1]
+            == f"✕ beyond outer reach by {over:.4g} mm"
+        ),
+        timeout=3000,
+    )
+    doc.commit_preview("Move base of Loader")
+    assert rec.pushed[-1].label == "Move base of Loader"
