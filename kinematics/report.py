@@ -96,9 +96,11 @@ def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[s
                 "both_elbows_area": _num(reg.both.area, 3),
             }
         )
+    # One lookup table: locating each target by search would make big cells quadratic.
+    where = {tid: (ev, i) for ev in ev_all.arms.values() for i, tid in enumerate(ev.target_ids)}
     targets = []
     for t in cell.targets:
-        ev, i = ev_all.locate(t.id)
+        ev, i = where[t.id]
         targets.append(
             {
                 "id": t.id,
