@@ -604,11 +604,7 @@ class CellCanvas(QWidget):
         # Plain reasons by lookup (the draft case, every drag step).
         plain = {
             int(st): f"{style.status_style(st).glyph} "
-            + (
-                f"only the {ev.arm.elbow} elbow is allowed"
-                if st is Status.ELBOW_EXCLUDED
-                else REASONS[st]
-            )
+            + (f"only {ev.arm.elbow} elbow allowed" if st is Status.ELBOW_EXCLUDED else REASONS[st])
             for st in Status
         }
         out = [

@@ -633,10 +633,10 @@ class LabelsItem(pg.GraphicsObject):
             )
             spot = next((c for c in options if placer.free(c[0], c[1], c[0] + rw, c[1] + bh)), None)
             if spot is None:
+                # No room: overlapping texts would be unreadable. The marker's shape still
+                # tells the reason, the tooltip and the tables the rest.
                 self._entries.pop((g, i), None)
-                if not reason:
-                    continue  # a crowded name gives way; the tooltip and tables still show it
-                spot = options[0]
+                continue
             placer.block(spot[0], spot[1], spot[0] + rw, spot[1] + bh)
             lead = None if spot == options[0] else (ax, ay)
             self._entries[(g, i)] = [name, reason, rw, rows, w, spot[0], spot[1], lead]
@@ -727,7 +727,7 @@ def nice_length(target: float) -> float:
     Examples
     --------
     >>> nice_length(730.0), nice_length(0.31)
-    (500.0, 0.3)
+    (500.0, 0.2)
     """
     if not (target > 0 and math.isfinite(target)):
         return 1.0
