@@ -23,6 +23,7 @@ from kinematics.cell import FIXTURE_KINDS, Arm, Cell
 from kinematics.evaluate import ArmEvaluation, evaluate_arm
 from kinematics.fk import joint_points
 from kinematics.ik import ELBOWS, REASONS, Status
+from kinematics.regions import arm_regions
 
 from . import dialogs, edits
 from .items import (
@@ -396,6 +397,8 @@ class CellCanvas(QWidget):
             ("ghosts.none", "Ghost poses: none", False),
         ):
             self._action(key, text, on, ghosts).toggled.connect(lambda _on: self._refresh_ghosts())
+        legend = self._action("legend.show", "Show legend", True)
+        legend.toggled.connect(lambda on: self.legend.setVisible(on))
         snap = self._action("snap.enabled", "Snap to grid and fixtures", True)
         snap.setToolTip(
             "Snap to the grid, fixture vertices and edge midpoints (hold Alt to suspend)"
@@ -638,18 +641,20 @@ class CellCanvas(QWidget):
         return max(arm.reach_max, 1e-9) * 2e-4
 
     def _regions_for(self, arm: Arm) -> _Regions:
-        from kinematics.regions import arm_regions
-
         tol = self._region_tol(arm)
         key = _arm_region_key(arm, tol)
         cache = self._regions.get(arm.id)
         if cache is not None and cache.key == key:
             return cache
-        regs = arm_regions(arm, tol)
         version = (cache.version + 1) if cache is not None else 1
         cache = _Regions(key, (arm.x, arm.y, arm.heading_deg), version=version)
+        try:
+            regs = arm_regions(arm, tol)
+        except ValueError as exc:  # an arm the engine cannot build regions for: draw none
+            self.status_message.emit(f"No regions for {arm.name}: {exc}")
+            regs = None
         for k in OVERLAY_KEYS:
-            cache.paths[k] = geometry_path(getattr(regs, k))
+            cache.paths[k] = geometry_path(getattr(regs, k)) if regs is not None else QPainterPath()
         self._regions[arm.id] = cache
         return cache
 
