@@ -62,7 +62,8 @@ def _load(path: Path):
     try:
         return load_cell(path)
     except CellFileError as err:
-        sys.stderr.write(f"{err}\n")
+        # Every problem on its own line, so one run shows all that needs fixing.
+        sys.stderr.write("".join(f"{line}\n" for line in err.problems))
         return None
 
 

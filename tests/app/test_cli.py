@@ -343,3 +343,24 @@ def test_report_never_shows_negative_zero(tmp_path, capsys):
     assert code == 0 and "-0.0" not in out
     t = json.loads(out)["targets"][0]
     assert t["solutions"][0]["singular"] and t["solutions"][0]["q_deg"] == [0.0, 0.0]
+
+
+def test_every_problem_in_a_file_gets_its_own_line(tmp_path, capsys):
+    # The rule: one message per problem, each naming the file, the JSON path and the value.
+    good_path = tmp_path / "good.cell.json"
+    save_cell(Cell("g", arms=(EXAM_ARM,), targets=(Target("a", "A", 1.0, 2.0, "exam"),)), good_path)
+    d = json.loads(good_path.read_text())
+    d["arms"][0]["links"][0] = -5
+    d["arms"][0]["elbow"] = "up"
+    d["targets"][0]["x"] = "1"
+    path = tmp_path / "multi.cell.json"
+    path.write_text(json.dumps(d), encoding="utf-8")
+    before = path.read_bytes()
+    code, out, err = run_check(capsys, str(path), "--json")
+    assert code == 2 and out == ""
+    assert err.splitlines() == [
+        "multi.cell.json: arms[0].links[0]: must be a positive number, got -5",
+        'multi.cell.json: arms[0].elbow: must be one of "any", "positive" or "negative", got "up"',
+        'multi.cell.json: targets[0].x: must be a number, got "1"',
+    ]
+    assert path.read_bytes() == before
