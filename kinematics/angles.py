@@ -19,6 +19,16 @@ ANGLE_EPS = 1e-9
 def wrap180(q: ArrayLike) -> NDArray[np.float64]:
     """Wrap angles into (-180, 180].
 
+    Parameters
+    ----------
+    q : array_like
+        Angles in degrees.
+
+    Returns
+    -------
+    ndarray
+        The same angles shifted by whole turns into (-180, 180].
+
     Examples
     --------
     >>> wrap180([180.0, -180.0, 190.0, 540.0]).tolist()
@@ -35,6 +45,18 @@ def representative(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.flo
     When that representative lies outside the limits (so none lies inside),
     the value wrapped into (-180, 180] is returned instead.
 
+    Parameters
+    ----------
+    q : array_like
+        Joint angles in degrees.
+    lo, hi : array_like
+        Inclusive joint limits in degrees, ``lo < hi``, up to 720 apart; broadcast with ``q``.
+
+    Returns
+    -------
+    ndarray
+        The angle to report for each joint value.
+
     Examples
     --------
     >>> representative(-170.0, 0.0, 360.0).item()
@@ -50,7 +72,24 @@ def representative(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.flo
 def representative_and_margin(
     q: ArrayLike, lo: ArrayLike, hi: ArrayLike
 ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-    """:func:`representative` and :func:`limit_margin` in one pass."""
+    """:func:`representative` and :func:`limit_margin` in one pass.
+
+    Parameters
+    ----------
+    q, lo, hi : array_like
+        As for :func:`representative`.
+
+    Returns
+    -------
+    rep, margin : ndarray
+        The reported angle and the degrees to the nearest limit (negative outside).
+
+    Examples
+    --------
+    >>> rep, margin = representative_and_margin([10.0, 200.0], 0.0, 540.0)
+    >>> rep.tolist(), margin.tolist()
+    ([370.0, 200.0], [170.0, 200.0])
+    """
     q = np.asarray(q, dtype=float)
     lo = np.asarray(lo, dtype=float)
     hi = np.asarray(hi, dtype=float)
@@ -73,6 +112,16 @@ def limit_margin(q: ArrayLike, lo: ArrayLike, hi: ArrayLike) -> NDArray[np.float
 
     Positive inside ``[lo, hi]``; negative outside, by the angle the joint would
     have to turn to reach the nearer limit.
+
+    Parameters
+    ----------
+    q, lo, hi : array_like
+        As for :func:`representative`.
+
+    Returns
+    -------
+    ndarray
+        Margin in degrees.
 
     Examples
     --------

@@ -62,6 +62,21 @@ REASONS = {
 def check_elbow_setting(elbow: str) -> str:
     """Return ``elbow`` if it is a valid elbow setting, else raise ValueError listing the choices.
 
+    Parameters
+    ----------
+    elbow : str
+        The setting to check.
+
+    Returns
+    -------
+    str
+        ``elbow`` itself.
+
+    Raises
+    ------
+    ValueError
+        When ``elbow`` is not one of :data:`kinematics.cell.ELBOW_SETTINGS`.
+
     Examples
     --------
     >>> check_elbow_setting("any")
@@ -338,6 +353,19 @@ def solve_arm(
     heading_deg: ArrayLike | None = None,
 ) -> IKResult:
     """:func:`solve` for a cell arm; the base pose may be overridden (e.g. for placement maps).
+
+    Parameters
+    ----------
+    arm : Arm
+        Link lengths, joint limits, elbow setting and (by default) base pose.
+    x, y : array_like
+        Target points in world coordinates.
+    base_x, base_y, heading_deg : array_like, optional
+        Base pose(s) to use instead of the arm's own; broadcast with the targets.
+
+    Returns
+    -------
+    IKResult
 
     Examples
     --------

@@ -72,6 +72,19 @@ def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
 def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[str, Any]:
     """Build the ``check --json`` report of a cell.
 
+    Parameters
+    ----------
+    cell : Cell
+        The cell to report on.
+    evaluation : CellEvaluation, optional
+        Its evaluation, when the caller already has one.
+
+    Returns
+    -------
+    dict
+        JSON-ready: ``cell, units, arms, targets, summary`` as described in README.md;
+        lengths and areas in the cell's units, angles in degrees.
+
     Examples
     --------
     >>> from kinematics.cell import Arm, Target
@@ -142,7 +155,26 @@ def _fmt(v: float | None, nd: int = 1) -> str:
 
 
 def format_check_table(report: dict[str, Any]) -> str:
-    """Render a report as a plain-text table for the terminal."""
+    """Render a report as a plain-text table for the terminal.
+
+    Parameters
+    ----------
+    report : dict
+        A report from :func:`check_report`.
+
+    Returns
+    -------
+    str
+        The table, one row per target, with the summary and the caution; no trailing newline.
+
+    Examples
+    --------
+    >>> from kinematics.cell import Arm, Target
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (0, 180), (-120, 120))
+    >>> cell = Cell("demo", arms=(arm,), targets=(Target("t", "T", 480, 480, "a"),))
+    >>> print(format_check_table(check_report(cell)).splitlines()[-3])
+    0 of 1 targets feasible; failing: t
+    """
     u = report["units"]
     lines = [f"Cell: {_plain(report['cell'])}   (lengths in {u}, angles in degrees)", ""]
     for a in report["arms"]:
