@@ -73,6 +73,8 @@ PICK_PX = 8.0  # pick radius around points, screen pixels
 SNAP_PX = 10.0  # snap radius to fixture vertices and midpoints, screen pixels
 DRAG_PX = 3.0  # movement before a press becomes a drag
 ANGLE_STEP = 5.0  # heading snap step, degrees
+#: Snap pitch until one is set: 10 mm, or a quarter inch (common practice, no source).
+DEFAULT_PITCH = {"mm": 10.0, "in": 0.25}
 DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
 
 # Ghost roles: the chosen pose, the other configuration when it also works, and
@@ -142,7 +144,9 @@ class CellCanvas(QWidget):
     def __init__(self, document: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.document = document
-        self._snap_pitch = 10.0
+        self._snap_pitch = DEFAULT_PITCH.get(document.cell.units, 10.0)
+        self._pitch_set = False  # until set_snap_pitch, the pitch follows the cell's units
+        self._fitted_on_show = False
         self._evals: dict[str, ArmEvaluation] = {}
         self._regions: dict[str, _Regions] = {}
         self._reason_cache: dict[str, tuple[ArmEvaluation, list[str], bool]] = {}
@@ -260,10 +264,18 @@ class CellCanvas(QWidget):
         if not (isinstance(pitch, int | float) and math.isfinite(pitch) and pitch > 0):
             raise ValueError(f"snap pitch must be a positive number, got {pitch!r}")
         self._snap_pitch = float(pitch)
+        self._pitch_set = True
 
     def snap_pitch(self) -> float:
         """Grid pitch for snapping, in cell units."""
         return self._snap_pitch
+
+    def showEvent(self, event) -> None:  # noqa: N802 (Qt name)
+        super().showEvent(event)
+        if not self._fitted_on_show:
+            # The first fit ran before the widget had its size; fit again once shown.
+            self._fitted_on_show = True
+            QTimer.singleShot(0, self, self.zoom_to_fit)
 
     def zoom_to_fit(self) -> None:
         """Show the whole cell: fixtures, targets and every arm's outer reach."""
@@ -454,6 +466,8 @@ class CellCanvas(QWidget):
         cell = self.document.cell
         if cell.units != self._units:
             self._units = cell.units
+            if not self._pitch_set:
+                self._snap_pitch = DEFAULT_PITCH.get(cell.units, self._snap_pitch)
             self.scale_bar.units = cell.units
             self._label_axes()
         for item in self._fixture_items.values():

@@ -606,3 +606,14 @@ def test_previews_from_elsewhere_return_to_full_labels_after_a_pause(qtbot, canv
     )
     doc.commit_preview("Move base of Loader")
     assert rec.pushed[-1].label == "Move base of Loader"
+
+
+def test_snap_pitch_follows_units_until_set(qtbot):
+    cell = replace(_cell(), units="in")
+    c = CellCanvas(Document(cell))
+    qtbot.addWidget(c)
+    assert c.snap_pitch() == 0.25  # a quarter inch (common practice, no source)
+    c.set_snap_pitch(0.1)
+    c.document.apply(replace(c.document.cell, units="mm", arms=()))
+    assert c.snap_pitch() == 0.1
+    assert c.plot.getAxis("bottom").labelText == "x (mm)"
