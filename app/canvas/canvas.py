@@ -642,9 +642,9 @@ class CellCanvas(QWidget):
             for i in bad.tolist():
                 st = Status(int(status[i]))
                 if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
-                    out[i] = f"{plain[st]} by {reach[i]:.4g} {u}"
+                    out[i] = f"{plain[st]} by {self._fmt(reach[i])} {u}"
                 elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT) and math.isfinite(lm[i]):
-                    out[i] = f"{plain[st]}, {abs(float(lm[i])):.1f}° past"
+                    out[i] = f"{plain[st]} by {abs(float(lm[i])):.1f}°"
         self._reason_cache[ev.arm.id] = (ev, out, amounts)
         return out
 

@@ -461,7 +461,7 @@ def test_failure_labels_give_reason_and_amount(qtbot, canvas, rec):
     )
     canvas.grab()
     over = math.hypot(700.0, 240.0) - (arm.a1 + arm.a2)  # annulus law: r - (a1 + a2)
-    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.4g} mm"
+    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.1f} mm"
     # While a drag previews, the amount is left out (it changes every step); it returns after.
     _drag(qtbot, canvas, (0.0, 0.0), (-40.0, 0.0), release=False)
     canvas.grab()
@@ -470,7 +470,7 @@ def test_failure_labels_give_reason_and_amount(qtbot, canvas, rec):
     canvas.grab()
     arm = rec.doc.cell.arm("a")
     over = math.hypot(700.0 - arm.x, 240.0 - arm.y) - (arm.a1 + arm.a2)
-    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.4g} mm"
+    assert _labels_of(canvas)["Far"] == f"✕ beyond outer reach by {over:.1f} mm"
 
 
 def test_q1_limit_label_says_how_far_past(qtbot):
@@ -495,7 +495,7 @@ def test_q1_limit_label_says_how_far_past(qtbot):
         q1 = (q1 + 180.0) % 360.0 - 180.0
         past.append(min(abs(q1 - 90.0), abs(q1 + 90.0)) if abs(q1) > 90.0 else 0.0)
     assert min(past) > 0.0
-    assert _labels_of(c)["Behind"] == f"▲ q1 limit, {min(past):.1f}° past"
+    assert _labels_of(c)["Behind"] == f"▲ q1 limit by {min(past):.1f}°"
 
 
 def test_regions_are_rebuilt_only_when_arm_geometry_changes(qtbot, canvas, rec):
@@ -600,7 +600,7 @@ def test_previews_from_elsewhere_return_to_full_labels_after_a_pause(qtbot, canv
     qtbot.waitUntil(
         lambda: (
             (canvas.grab(), _labels_of(canvas).get("Far"))[1]
-            == f"✕ beyond outer reach by {over:.4g} mm"
+            == f"✕ beyond outer reach by {over:.1f} mm"
         ),
         timeout=3000,
     )
