@@ -51,7 +51,7 @@ __all__ = [
 
 # Elements per temporary array in the kernels: numpy temporaries above roughly 128 KB are
 # fresh memory maps on every call (glibc), several times slower per element.
-CHUNK = 4096
+CHUNK = 8192
 SEARCH_CHUNK = 16384
 
 
@@ -147,16 +147,19 @@ class FixtureSet:
 
 
 def _edge_arrays(verts: NDArray, convex: bool) -> tuple:
-    P = verts
-    Q = np.roll(verts, -1, axis=1)
+    """Per-edge arrays (n, E): starts, ends, vectors, inverse squared lengths, inward normals."""
+    px, py = verts[..., 0].copy(), verts[..., 1].copy()
+    qx, qy = np.roll(px, -1, axis=1), np.roll(py, -1, axis=1)
+    ex, ey = qx - px, qy - py
+    l2 = ex * ex + ey * ey
+    il2 = np.divide(1.0, l2, out=np.zeros_like(l2), where=l2 > 0)
     if convex:
-        ex, ey = Q[..., 0] - P[..., 0], Q[..., 1] - P[..., 1]
-        length = np.hypot(ex, ey)
+        length = np.sqrt(l2)
         length = np.where(length > 0, length, 1.0)
         nx, ny = -ey / length, ex / length
     else:
         nx = ny = None
-    return (P[..., 0].copy(), P[..., 1].copy(), Q[..., 0].copy(), Q[..., 1].copy(), nx, ny)
+    return (px, py, qx, qy, ex, ey, il2, nx, ny)
 
 
 def _is_convex(v: NDArray) -> bool:
@@ -181,6 +184,12 @@ def _fixture_set(outlines: tuple) -> FixtureSet:
 
 # ---------------------------------------------------------------------------------------
 # geometric kernels (rows of segments against rows of polygons)
+
+
+@lru_cache(maxsize=64)
+def _pairs(n: int) -> tuple[NDArray[np.int64], NDArray[np.int64]]:
+    """Index pairs i < j of n items (cached: the kernels ask for the same few sizes)."""
+    return np.triu_indices(n, 1)
 
 
 def _pt_seg2(x: NDArray, p: NDArray, q: NDArray) -> NDArray:
@@ -274,7 +283,7 @@ def _seg_depth(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
     y0, y1 = Py.min(axis=1, keepdims=True), Py.max(axis=1, keepdims=True)
     half = 0.5 * np.minimum(x1 - x0, y1 - y0)[:, 0]
     u2 = np.minimum(u2, half * half)
-    iu, ju = np.triu_indices(E + R, 1)
+    iu, ju = _pairs(E + R)
     dA, dB, dC = A[:, iu] - A[:, ju], B[:, iu] - B[:, ju], C[:, iu] - C[:, ju]
     with np.errstate(over="ignore", invalid="ignore"):
         disc = dB * dB - 4.0 * dA * dC
@@ -328,7 +337,7 @@ def _seg_depth_convex(a: NDArray, b: NDArray, V: NDArray) -> NDArray:
     alpha = np.sum(inward * (a[:, None, :] - V), axis=2)  # (n, E) at t = 0
     beta = np.sum(inward * d[:, None, :], axis=2)
     E = V.shape[1]
-    iu, ju = np.triu_indices(E, 1)
+    iu, ju = _pairs(E)
     db = beta[:, iu] - beta[:, ju]
     tc = np.where(db != 0, (alpha[:, ju] - alpha[:, iu]) / np.where(db != 0, db, 1.0), 0.0)
     t = np.concatenate([np.zeros((len(a), 1)), np.ones((len(a), 1)), np.clip(tc, 0.0, 1.0)], 1)
@@ -354,31 +363,40 @@ def _capsule_rows(
     ax: NDArray, ay: NDArray, bx: NDArray, by: NDArray, r: NDArray, edges: tuple, convex: bool
 ) -> NDArray:
     """Signed distance of capsules (segment rows a-b, radius r) to fixture rows."""
-    Px, Py, Qx, Qy, Nx, Ny = edges
+    Px, Py, Qx, Qy, Ex, Ey, Il, Nx, Ny = edges
     ax_, ay_, bx_, by_ = ax[:, None], ay[:, None], bx[:, None], by[:, None]
-    d2 = np.minimum(
-        np.minimum(_pt_seg2_xy(ax_, ay_, Px, Py, Qx, Qy), _pt_seg2_xy(bx_, by_, Px, Py, Qx, Qy)),
-        _pt_seg2_xy(Px, Py, ax_, ay_, bx_, by_),
-    )
-    dist2 = d2.min(axis=1)
-    ex, ey = Qx - Px, Qy - Py
     sx, sy = bx_ - ax_, by_ - ay_
-    o1 = ex * (ay_ - Py) - ey * (ax_ - Px)
-    o2 = ex * (by_ - Py) - ey * (bx_ - Px)
-    o3 = sx * (Py - ay_) - sy * (Px - ax_)
-    o4 = sx * (Qy - ay_) - sy * (Qx - ax_)
+    s2 = sx * sx + sy * sy
+    isd = np.divide(1.0, s2, out=np.zeros_like(s2), where=s2 > 0)
+    wxa, wya = ax_ - Px, ay_ - Py  # edge start to segment start
+    wxb, wyb = bx_ - Px, by_ - Py
+    # Segment ends to edges, and edge starts (the vertices) to the segment.
+    t = np.clip((wxa * Ex + wya * Ey) * Il, 0.0, 1.0)
+    ux, uy = wxa - t * Ex, wya - t * Ey
+    d2 = ux * ux + uy * uy
+    t = np.clip((wxb * Ex + wyb * Ey) * Il, 0.0, 1.0)
+    ux, uy = wxb - t * Ex, wyb - t * Ey
+    np.minimum(d2, ux * ux + uy * uy, out=d2)
+    t = np.clip((wxa * sx + wya * sy) * -isd, 0.0, 1.0)
+    ux, uy = wxa + t * sx, wya + t * sy
+    np.minimum(d2, ux * ux + uy * uy, out=d2)
+    dist2 = d2.min(axis=1)
+    # Proper crossings (orientation tests) and the start point inside (even-odd ray cast
+    # towards +x: an edge straddling the ray's height counts when the point is on its left).
+    o1 = Ex * wya - Ey * wxa
+    o2 = Ex * wyb - Ey * wxb
+    o3 = sx * wya - sy * wxa
+    o4 = sx * (wya - Ey) - sy * (wxa - Ex)
     crossing = ((o1 * o2 < 0) & (o3 * o4 < 0)).any(axis=1)
-    # Start point inside (even-odd ray cast towards +x).
-    cond = (Py > ay_) != (Qy > ay_)
-    xint = Px + (ay_ - Py) * (Qx - Px) / np.where(cond, Qy - Py, 1.0)
-    inside = (np.count_nonzero(cond & (ax_ < xint), axis=1) % 2) == 1
+    straddle = (Py > ay_) != (Qy > ay_)
+    inside = (np.count_nonzero(straddle & (o1 * Ey > 0), axis=1) % 2) == 1
     scale = 1.0 + ax * ax + ay * ay + bx * bx + by * by
     inter = crossing | inside | (dist2 <= 1e-24 * scale)
     sd = np.sqrt(dist2) - r
     if inter.any():
         k = np.flatnonzero(inter)
         if convex:
-            alpha = Nx[k] * (ax_[k] - Px[k]) + Ny[k] * (ay_[k] - Py[k])
+            alpha = Nx[k] * wxa[k] + Ny[k] * wya[k]
             beta = Nx[k] * sx[k] + Ny[k] * sy[k]
             depth = _lp_depth(alpha, beta)
         else:
@@ -393,7 +411,7 @@ def _capsule_rows(
 def _lp_depth(alpha: NDArray, beta: NDArray) -> NDArray:
     """max over t in [0, 1] of min_e (alpha_e + beta_e t), floored at 0 (rows (n, E))."""
     n, E = alpha.shape
-    iu, ju = np.triu_indices(E, 1)
+    iu, ju = _pairs(E)
     db = beta[:, iu] - beta[:, ju]
     tc = (alpha[:, ju] - alpha[:, iu]) / np.where(db != 0, db, 1.0)
     tc = np.where(db != 0, np.clip(tc, 0.0, 1.0), 0.0)
@@ -676,22 +694,39 @@ def _search(
         if not mask.all():
             np.copyto(lb[j], np.inf, where=~mask)
             np.copyto(ub[j], np.inf, where=~mask)
-    # Every pair whose lower bound does not exceed the pose's smallest upper bound.
+    ar = np.arange(P)
     bound = np.minimum(ub.min(axis=(0, 2)), cur.astype(np.float32))
+    # Pass 1: each pose's most promising pair tightens its bound.
+    flat = lb.transpose(1, 0, 2).reshape(P, nb * F)
+    first = np.argmin(flat, axis=1)
+    fb, ff = np.divmod(first, F)
+    has = flat[ar, first] <= bound
+    sel = np.flatnonzero(has)
+    if len(sel):
+        sd = _exact_many(posed, fs, fb[sel], sel, fidx[ff[sel]])
+        _improve(cur, cur_b, cur_f, sel, sd, fb[sel], fidx[ff[sel]])
+        lb[fb[sel], sel, ff[sel]] = np.inf
+        bound = np.minimum(bound, cur.astype(np.float32))
+    # Pass 2: every pair whose lower bound does not exceed the pose's smallest upper bound.
     cb, cp, cf = np.nonzero(lb <= bound[None, :, None])
     if len(cp):
         sd2 = _exact_many(posed, fs, cb, cp, fidx[cf])
-        order = np.lexsort((sd2, cp))
-        cp_s = cp[order]
-        head = np.ones(len(cp_s), dtype=bool)
-        head[1:] = cp_s[1:] != cp_s[:-1]
-        pick = order[head]
-        hp = cp[pick]
-        better = sd2[pick] < cur[hp]
-        hp, pick = hp[better], pick[better]
-        cur[hp] = sd2[pick]
-        cur_b[hp] = cb[pick]
-        cur_f[hp] = fidx[cf[pick]]
+        _improve(cur, cur_b, cur_f, cp, sd2, cb, fidx[cf])
+
+
+def _improve(cur, cur_b, cur_f, p, sd, b, f):  # noqa: ANN001, ANN202
+    """Keep, per pose, the smallest of its current value and the new rows' values."""
+    order = np.lexsort((sd, p))
+    ps = p[order]
+    head = np.ones(len(ps), dtype=bool)
+    head[1:] = ps[1:] != ps[:-1]
+    pick = order[head]
+    hp = p[pick]
+    better = sd[pick] < cur[hp]
+    hp, pick = hp[better], pick[better]
+    cur[hp] = sd[pick]
+    cur_b[hp] = b[pick]
+    cur_f[hp] = f[pick]
 
 
 def _exact_many(
