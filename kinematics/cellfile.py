@@ -48,6 +48,7 @@ __all__ = [
     "MAX_FILE_BYTES",
     "MAX_DEPTH",
     "MAX_MAGNITUDE",
+    "LINK_LENGTH_RANGE",
     "MAX_JOINT_RANGE_DEG",
     "BACKUP_SUFFIX",
     "CellFileError",
@@ -70,6 +71,9 @@ MAX_FILE_BYTES = 20 * 1024 * 1024
 MAX_DEPTH = 64
 #: Largest absolute value accepted for any number the program uses.
 MAX_MAGNITUDE = 1e9
+#: Link lengths and radii must lie in this range (cell units): beyond it the region
+#: polygons and areas lose their precision.
+LINK_LENGTH_RANGE = (1e-3, 1e6)
 #: Widest joint range accepted, max - min, in degrees.
 MAX_JOINT_RANGE_DEG = 720.0
 #: Appended to a file name for the copy of the previous file kept by :func:`save_cell`.
@@ -323,19 +327,24 @@ _NUMBER_WORDS = {
     "any": "a number",
     "positive": "a positive number",
     "nonnegative": "a number of 0 or more",
+    "length": "a positive number",
 }
 
 
 def _number(value: Any, path: JsonPath, r: _Report, kind: str = "any") -> float | None:
-    """Check one number; ``kind`` is "any", "positive" or "nonnegative"."""
+    """Check one number; ``kind`` is "any", "positive", "nonnegative" or "length"."""
     if isinstance(value, _BadNumber):
         return None  # already reported by _scan
     if not _is_number(value):
         r.add(path, f"must be {_NUMBER_WORDS[kind]}", value)
         return None
     v = float(value)
-    if (kind == "positive" and v <= 0) or (kind == "nonnegative" and v < 0):
+    if (kind in ("positive", "length") and v <= 0) or (kind == "nonnegative" and v < 0):
         r.add(path, f"must be {_NUMBER_WORDS[kind]}", value)
+        return None
+    lo, hi = LINK_LENGTH_RANGE
+    if kind == "length" and not lo <= v <= hi:
+        r.add(path, f"must be a length between {lo:g} and {hi:g}", value)
         return None
     if abs(v) > MAX_MAGNITUDE:
         r.add(path, f"must be between -{MAX_MAGNITUDE:g} and {MAX_MAGNITUDE:g}", value)
@@ -466,7 +475,7 @@ def _read_arm(value: Any, path: JsonPath, r: _Report) -> Arm | None:
                 coords.append(None if bv is _MISSING else _number(bv, bp + (key,), r))
             x, y, heading = coords
     if (v := _get(obj, "links", path, r)) is not _MISSING:
-        links = _numbers(v, path + ("links",), r, 2, "positive")
+        links = _numbers(v, path + ("links",), r, 2, "length")
     if (v := _get(obj, "joint_limits_deg", path, r)) is not _MISSING:
         limits = _joint_limits(v, path + ("joint_limits_deg",), r)
     if (v := _get(obj, "elbow", path, r)) is not _MISSING:

@@ -1140,3 +1140,14 @@ def test_documented_example_is_a_canonical_cell_file() -> None:
     doc_text = (SAMPLES.parent / "docs" / "cell-format.md").read_text(encoding="utf-8")
     example = doc_text.split("```json\n", 1)[1].split("```", 1)[0]
     assert dumps_cell(parse_cell(example)) == example
+
+
+@pytest.mark.parametrize("value", [1e9, 1e-300, 0.0005])
+def test_link_lengths_outside_the_precise_range_are_refused(value: float) -> None:
+    # Region polygons and areas lose precision for links of 1e9 next to 1 (double precision);
+    # lengths are kept within 0.001 .. 1e6 cell units.
+    data = json.loads((SAMPLES / "tray_loading.cell.json").read_text(encoding="utf-8"))
+    data["arms"][0]["links"][1] = value
+    with pytest.raises(CellFileError) as err:
+        parse_cell(json.dumps(data), "t.cell.json")
+    assert str(err.value).startswith("t.cell.json: arms[0].links[1]: must be a length between")
