@@ -617,3 +617,26 @@ def test_snap_pitch_follows_units_until_set(qtbot):
     c.document.apply(replace(c.document.cell, units="mm", arms=()))
     assert c.snap_pitch() == 0.1
     assert c.plot.getAxis("bottom").labelText == "x (mm)"
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_canvas_verdicts_match_the_document_after_edits(qtbot, path):
+    # The canvas re-evaluates only changed arms; it must still agree with a full evaluation.
+    rec = Recorder(load_cell(path))
+    c = CellCanvas(rec.doc)
+    qtbot.addWidget(c)
+    cell = rec.doc.cell
+    arm = cell.arms[0]
+    rec.doc.edit("move", replace(cell, arms=(replace(arm, x=arm.x + 37.0), *cell.arms[1:])))
+    if cell.fixtures:
+        f = rec.doc.cell.fixtures[0]
+        moved = tuple((x + 5.0, y) for x, y in f.outline)
+        rec.doc.edit(
+            "fx",
+            replace(rec.doc.cell, fixtures=(replace(f, outline=moved), *rec.doc.cell.fixtures[1:])),
+        )
+    for aid, ev in rec.doc.evaluation.arms.items():
+        mine = c.evaluation(aid)
+        assert mine.target_ids == ev.target_ids
+        assert np.array_equal(mine.status, ev.status)
+        assert np.array_equal(mine.chosen, ev.chosen)
