@@ -57,7 +57,7 @@ def build(n_targets: int, n_fixtures: int, seed: int = 11):
         (-145, 145),
         link_radii=(30.0, 20.0),
         link_underside_height=600.0,
-        extra={"tool": {"radius": 25.0}},
+        extra={"tool_body": {"radius": 25.0}},
     )
     plan = []  # (kind, height, radial range, size range, L-shaped)
     plan += [("table", 450.0, (200, 640), (60, 180), i % 4 == 0) for i in range(30)]

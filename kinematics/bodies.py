@@ -13,7 +13,7 @@ arm ``link_outlines``                  ``[outline1 | null, outline2 | null]``; a
                                        link's inner joint, +x along the link to its far joint
 arm ``base_footprint``                 ``[[x, y], ...]`` in the base frame (origin at the base,
                                        +x along the base heading); it never moves
-arm ``tool``                           ``{"radius": p, "outline": [[x, y], ...]}``, either or
+arm ``tool_body``                      ``{"radius": p, "outline": [[x, y], ...]}``, either or
                                        both; frame: origin at the tool point, +x along link 2
 arm ``mechanical_limits_deg``          ``[[lo1, hi1], [lo2, hi2]]``, the full mechanical range
                                        (must contain the joint limits); used for the maximum
@@ -354,7 +354,7 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
     Examples
     --------
     >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150), link_radii=(40, 30),
-    ...           extra={"tool": {"radius": 25}})
+    ...           extra={"tool_body": {"radius": 25}})
     >>> ab = arm_bodies(arm)
     >>> ab.names, ab.min_link_radius, ab.radii_assumed
     (('link 1', 'link 2', 'tool'), 30.0, False)
@@ -383,7 +383,7 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
             bodies.append(Body(name, frame, "capsule", (0.0, 0.0), (length, 0.0), radii[k]))
         else:
             bodies.append(Body(name, frame, "polygon", outline=outlines[k]))
-    tool = ex.get("tool")
+    tool = ex.get("tool_body")
     if tool is not None:
         p = f"{path}.tool"
         if not isinstance(tool, Mapping) or not ({"radius", "outline"} & set(tool)):

@@ -909,7 +909,12 @@ def arm_clearance(
     fs = FixtureSet.of(fixtures)
     lm = link_blocking(arm, fixtures, margin)
     wh = np.broadcast_to(np.asarray(work_height, dtype=float), q.shape[:-1])
-    tm = tool_blocking(arm, fixtures, margin, wh) if ab.has_tool else None
+    tm = None
+    if ab.has_tool:
+        flat = wh.reshape(-1)
+        same = len(flat) == 0 or np.all(np.isnan(flat)) or np.all(flat == flat[0])
+        # One work height (or none) for every pose: one mask row serves them all.
+        tm = tool_blocking(arm, fixtures, margin, flat[0] if same and len(flat) else wh)
     return pose_clearance(ab, fs, q, lm, tm)
 
 

@@ -60,7 +60,7 @@ def test_optional_bodies():
     a = arm(
         extra={
             "link_outlines": [None, [[-30, -25], [280, -25], [280, 25], [-30, 25]]],
-            "tool": {"radius": 25, "outline": [[0, 0], [40, -10], [40, 10]]},
+            "tool_body": {"radius": 25, "outline": [[0, 0], [40, -10], [40, 10]]},
             "base_footprint": [[-80, -80], [-80, 80], [80, 80], [80, -80]],  # clockwise on input
         }
     )
@@ -79,10 +79,16 @@ def test_optional_bodies():
 @pytest.mark.parametrize(
     ("extra", "message"),
     [
-        ({"tool": {"radius": -3}}, "arms[2].tool.radius: must be greater than 0, got -3"),
-        ({"tool": {"radius": True}}, "arms[2].tool.radius: must be a finite number, got True"),
-        ({"tool": 5}, 'arms[2].tool: must be an object with "radius" and/or "outline", got 5'),
-        ({"tool": {"radius": 5, "colour": 1}}, "arms[2].tool: unknown key 'colour'"),
+        ({"tool_body": {"radius": -3}}, "arms[2].tool_body.radius: must be greater than 0, got -3"),
+        (
+            {"tool_body": {"radius": True}},
+            "arms[2].tool_body.radius: must be a finite number, got True",
+        ),
+        (
+            {"tool_body": 5},
+            'arms[2].tool_body: must be an object with "radius" and/or "outline", got 5',
+        ),
+        ({"tool_body": {"radius": 5, "colour": 1}}, "arms[2].tool_body: unknown key 'colour'"),
         ({"link_outlines": [None]}, "arms[2].link_outlines: must be [outline1 or null"),
         (
             {"link_outlines": [None, [[0, 0], [1, 0]]]},

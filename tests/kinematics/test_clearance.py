@@ -100,7 +100,7 @@ def random_case():
         (-170, 170),
         (-150, 150),
         link_radii=(30.0, 20.0),
-        extra={"tool": {"radius": 25.0}},
+        extra={"tool_body": {"radius": 25.0}},
     )
     polys = random_fixtures(rng, 30, 750.0, (15.0, 70.0))
     q = np.c_[rng.uniform(-170, 170, 2500), rng.uniform(-150, 150, 2500)]
@@ -259,8 +259,8 @@ def test_link_outline_body_matches_shapely():
 # hand-built known answers
 
 
-def column(x0, y0, x1, y1, height=None, kind="column", fid="col"):
-    return Fixture(fid, "Column C1", kind, ((x0, y0), (x1, y0), (x1, y1), (x0, y1)), height)
+def column(x0, y0, x1, y1, height=None, kind="column", fid="col", name="Column C1"):
+    return Fixture(fid, name, kind, ((x0, y0), (x1, y0), (x1, y1), (x0, y1)), height)
 
 
 ARM = Arm(
@@ -335,7 +335,7 @@ def test_tool_against_work_height():
         (-150, 150),
         link_radii=(20, 15),
         link_underside_height=900,
-        extra={"tool": {"radius": 30}},
+        extra={"tool_body": {"radius": 30}},
     )
     # Tool over a table at its work height 700 and next to a 750 bin.
     table = column(560, -150, 760, 150, height=700, kind="table", fid="tbl")
@@ -377,3 +377,102 @@ def test_nan_poses_and_no_blocking_fixtures():
     assert np.isnan(res.clearance[0]) and not res.collides[0] and res.fixture[0] == -1
     empty = arm_clearance(ARM, [], [[0.0, 0.0]])
     assert np.isinf(empty.clearance[0]) and empty.fixture[0] == -1
+
+
+# ---------------------------------------------------------------------------------------
+# the verdict at targets (evaluate_arm)
+
+
+def test_collision_turns_a_configuration_down():
+    from kinematics.cell import Target
+    from kinematics.evaluate import evaluate_arm
+    from kinematics.ik import ELBOWS, Status
+
+    # Target (500, 200): both configurations are 79.7 deg from a limit, so without the
+    # column the tie goes to positive, whose elbow sits near (399, -29).
+    t = Target("t", "T", 500.0, 200.0, "a")
+    col = column(380, -70, 420, -40)
+    plain = evaluate_arm(ARM, [t])
+    assert ELBOWS[int(plain.chosen[0])] == "positive"
+    ev = evaluate_arm(ARM, [t], [col])
+    assert ev.collides[0].tolist() == [True, False]
+    assert bool(ev.feasible[0]) and ev.chosen_elbow(0) == "negative" and ev.reason(0) == ""
+    assert ev.blocked_by(0, 0).id == "col" and ev.blocked_by(0, 1) is None
+    assert ev.blocked_body(0, 0) == "link 1"
+    # With the elbow held positive the target fails for the collision, naming the column.
+    held = Arm(
+        "a", "A", 0, 0, 0, 400, 250, (-170, 170), (-150, 150), elbow="positive", link_radii=(20, 15)
+    )
+    ev = evaluate_arm(held, [t], [col])
+    assert not ev.feasible[0] and int(ev.status[0]) == Status.COLLISION
+    assert ev.reason(0) == "collides with Column C1"
+    assert ev.chosen_elbow(0) is None
+
+
+def test_reach_and_limits_are_reported_before_collisions():
+    from kinematics.cell import Target
+    from kinematics.evaluate import evaluate_arm
+    from kinematics.ik import Status
+
+    far = Target("far", "Far", 900.0, 0.0, "a")
+    ev = evaluate_arm(ARM, [far], [column(-2000, -2000, 2000, 2000, kind="keep-out")])
+    assert int(ev.status[0]) == Status.BEYOND_REACH and np.isnan(ev.clearance[0]).all()
+
+
+def test_chosen_configuration_rule():
+    from kinematics.cell import Target
+    from kinematics.evaluate import LIMIT_MARGIN_UNIT_DEG, evaluate_arm
+
+    # Both configurations clear; the rule score = min(margin / 10 deg, clearance / (2 r)),
+    # recomputed here from the reported margins and clearances.
+    t = Target("t", "T", 500.0, 200.0, "a")
+    col = column(370, -120, 410, -80)  # near the positive elbow, not touching
+    ev = evaluate_arm(ARM, [t], [col])
+    assert not ev.collides[0].any()
+    width = 2 * 15.0
+    score = np.minimum(ev.ik.limit_margin_deg[0] / LIMIT_MARGIN_UNIT_DEG, ev.clearance[0] / width)
+    assert score.tolist() == pytest.approx(ev.score[0].tolist())
+    assert int(ev.chosen[0]) == int(np.argmax(score))
+    assert ev.clearance[0, 0] < ev.clearance[0, 1]
+    assert ev.chosen_elbow(0) == "negative"  # the column costs the positive one its lead
+
+
+def test_cell_margin_and_work_heights_reach_the_verdict():
+    from kinematics.cell import Cell, Target
+    from kinematics.evaluate import evaluate_cell
+
+    arm = Arm(
+        "a",
+        "A",
+        0,
+        0,
+        0,
+        400,
+        250,
+        (-170, 170),
+        (-150, 150),
+        elbow="positive",
+        link_radii=(20, 15),
+        link_underside_height=900,
+        extra={"tool_body": {"radius": 30}},
+    )
+    table = column(150, -60, 260, 60, height=700, kind="table", fid="tbl")
+    bin_ = column(540, -20, 580, 20, height=750, kind="fixture", fid="bin", name="Bin B2")
+    t = Target("t", "T", 520.0, 0.0, "a", {"work_height": 700.0})
+    cell = Cell("c", arms=(arm,), fixtures=(table, bin_), targets=(t,))
+    ev = evaluate_cell(cell).arms["a"]
+    # The tool (radius 30 at x = 520) reaches 10 into the 750 bin 20 away; the 700 table
+    # it works on does not count.
+    assert not ev.feasible[0] and ev.reason(0) == "collides with Bin B2"
+    assert ev.blocked_body(0, 0) == "tool" and ev.clearance[0, 0] == pytest.approx(-10.0)
+    high = Cell(
+        "c",
+        arms=(arm,),
+        fixtures=(table, bin_),
+        targets=(Target("t", "T", 520.0, 0.0, "a", {"work_height": 760.0}),),
+    )
+    assert evaluate_cell(high).arms["a"].feasible[0]
+    # A margin of 250 brings the 700 table up to the links' underside.
+    tight = Cell("c", arms=(arm,), fixtures=(table,), targets=(t,), extra={"clearance_margin": 250})
+    ev = evaluate_cell(tight).arms["a"]
+    assert not ev.feasible[0] and ev.blocked_body(0, 0) == "link 1"

@@ -76,7 +76,7 @@ def limited():
         (-140, 135),
         link_radii=(30, 20),
         extra={
-            "tool": {"radius": 40},
+            "tool_body": {"radius": 40},
             "base_footprint": [[-90, -90], [90, -90], [90, 90], [-90, 90]],
         },
     )
@@ -174,7 +174,7 @@ def test_maximum_operating_and_sources():
         (-120, 120),
         (-130, 130),
         link_radii=(25, 20),
-        extra={"mechanical_limits_deg": [[-170, 170], [-150, 150]], "tool": {"radius": 30}},
+        extra={"mechanical_limits_deg": [[-170, 170], [-150, 150]], "tool_body": {"radius": 30}},
     )
     targets = (Target("p", "Pick", 500, -200, "a"), Target("q", "Place", 300, 400, "a"))
     cell = Cell("c", arms=(arm,), targets=targets, sequences=(Sequence("a", ("p", "q")),))

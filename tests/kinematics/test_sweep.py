@@ -35,7 +35,7 @@ ARM = Arm(
     (-170, 170),
     (-150, 150),
     link_radii=(25, 20),
-    extra={"tool": {"radius": 30}},
+    extra={"tool_body": {"radius": 30}},
 )
 # Found by a search over a grid of columns and target pairs: both ends clear the column in
 # both configurations, but only the positive configuration's move passes it.
@@ -59,7 +59,7 @@ def test_swept_area_of_tool_disc_under_q1_rotation(D):
         (-360, 360),
         (-150, 150),
         link_radii=(10, 10),
-        extra={"tool": {"radius": p}},
+        extra={"tool_body": {"radius": p}},
     )
     path = JointPath((0.0, 0.0), (math.degrees(D), 0.0), False, True)
     area = swept_shapes(arm_bodies(arm), path)["tool"].area
@@ -80,7 +80,7 @@ def test_full_turn_sweeps_an_annulus():
         (-360, 360),
         (-150, 150),
         link_radii=(10, 10),
-        extra={"tool": {"radius": p}},
+        extra={"tool_body": {"radius": p}},
     )
     path = JointPath((-180.0, 0.0), (180.0, 0.0), False, True)
     area = swept_shapes(arm_bodies(arm), path)["tool"].area
@@ -242,7 +242,7 @@ def cell_with_sequence(q2_limits=(-150, 150)):
         q2_limits,
         elbow="any",
         link_radii=(25, 20),
-        extra={"tool": {"radius": 30}},
+        extra={"tool_body": {"radius": 30}},
     )
     targets = (
         Target("p1", "Pick 1", -500.0, 300.0, "a"),
