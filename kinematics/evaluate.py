@@ -1,21 +1,46 @@
-"""Evaluate every target of a cell: reach, elbow configuration, limits, margins.
+"""Evaluate every target of a cell: reach, elbow configuration, limits, margins, clearance.
 
 This is the one entry point the command line, the desktop program and the
 exports use, so all of them agree on what is feasible and why.
+
+A configuration is feasible when it is reachable, within both joint limits, allowed
+by the arm's elbow setting and clear of every fixture that blocks the arm's bodies
+(:mod:`kinematics.bodies` states the 2.5-D rule). Of the feasible configurations the
+one with the larger score is chosen, where
+
+    score = min(limit margin / LIMIT_MARGIN_UNIT_DEG, clearance / (2 * smallest link radius))
+
+so 10 degrees of joint-limit margin count as much as one link width of clearance and
+the scarcer of the two decides; equal scores go to the larger of the two terms, then
+to the positive configuration. With no blocking fixtures the clearance is infinite
+and the rule is the plain larger limit margin.
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterable
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import NDArray
 
-from .cell import Arm, Cell, Target
+from .bodies import ArmBodies, arm_bodies, clearance_margin, work_heights
+from .cell import Arm, Cell, Fixture, Target
+from .clearance import arm_clearance
 from .ik import ELBOWS, REASONS, IKResult, Status, solve_arm
 
-__all__ = ["ArmEvaluation", "CellEvaluation", "evaluate_arm", "evaluate_cell"]
+__all__ = [
+    "LIMIT_MARGIN_UNIT_DEG",
+    "ArmEvaluation",
+    "CellEvaluation",
+    "evaluate_arm",
+    "evaluate_cell",
+    "evaluate_cell_arm",
+    "choose_configuration",
+]
+
+#: Joint-limit margin worth one link width of clearance in the choice of configuration.
+LIMIT_MARGIN_UNIT_DEG = 10.0
 
 
 @dataclass(frozen=True)
@@ -30,8 +55,22 @@ class ArmEvaluation:
     ik : IKResult
         Shape (N,) arrays from :func:`kinematics.ik.solve_arm`.
     feasible, chosen, status : ndarray, shape (N,)
-        The final verdict: equal to the IK verdict until clearance checks are
-        added, which may turn a configuration down for a collision.
+        The final verdict: the IK verdict, with configurations that collide with a
+        blocking fixture turned down (status COLLISION when that leaves none).
+    collides : ndarray of bool, shape (N, 2)
+        Per configuration: touches or enters a blocking fixture (False when out of reach).
+    clearance : ndarray, shape (N, 2)
+        Per configuration: smallest signed distance to a blocking fixture (negative =
+        penetration depth); +inf when nothing blocks, NaN when out of reach.
+    clearance_fixture, clearance_body : ndarray of int, shape (N, 2)
+        Index into ``fixtures`` / ``bodies.bodies`` of the fixture and body attaining the
+        clearance, -1 when none.
+    score : ndarray, shape (N, 2)
+        The choice score of each configuration (see the module docstring).
+    fixtures : tuple of Fixture
+        The fixtures checked.
+    bodies : ArmBodies or None
+        The arm's bodies (None for an arm evaluated without fixtures).
     """
 
     arm: Arm
@@ -41,14 +80,56 @@ class ArmEvaluation:
     feasible: NDArray[np.bool_]
     chosen: NDArray[np.int64]
     status: NDArray[np.int64]
+    collides: NDArray[np.bool_] = field(default_factory=lambda: np.zeros((0, 2), dtype=bool))
+    clearance: NDArray[np.float64] = field(default_factory=lambda: np.zeros((0, 2)))
+    clearance_fixture: NDArray[np.int64] = field(
+        default_factory=lambda: np.zeros((0, 2), dtype=np.int64)
+    )
+    clearance_body: NDArray[np.int64] = field(
+        default_factory=lambda: np.zeros((0, 2), dtype=np.int64)
+    )
+    score: NDArray[np.float64] = field(default_factory=lambda: np.zeros((0, 2)))
+    fixtures: tuple[Fixture, ...] = ()
+    bodies: ArmBodies | None = None
 
     def index(self, target_id: str) -> int:
         """Position of a target in this evaluation's arrays."""
         return self.target_ids.index(target_id)
 
     def reason(self, i: int) -> str:
-        """Reason text for target ``i`` (empty when feasible)."""
-        return REASONS[Status(int(self.status[i]))]
+        """Reason text for target ``i`` (empty when feasible).
+
+        A collision names the fixture: "collides with <fixture name>".
+        """
+        st = Status(int(self.status[i]))
+        if st is Status.COLLISION:
+            f = self.blocking_fixture(i)
+            if f is not None:
+                return f"{REASONS[st]} with {f.name}"
+        return REASONS[st]
+
+    def blocked_by(self, i: int, k: int) -> Fixture | None:
+        """The fixture configuration ``k`` of target ``i`` collides with (None when clear)."""
+        if not bool(self.collides[i, k]):
+            return None
+        j = int(self.clearance_fixture[i, k])
+        return self.fixtures[j] if j >= 0 else None
+
+    def blocked_body(self, i: int, k: int) -> str | None:
+        """Name of the body of configuration ``k`` that collides (None when clear)."""
+        if not bool(self.collides[i, k]) or self.bodies is None:
+            return None
+        j = int(self.clearance_body[i, k])
+        return self.bodies.bodies[j].name if j >= 0 else None
+
+    def blocking_fixture(self, i: int) -> Fixture | None:
+        """For a target turned down by collisions: the fixture hit by the configuration
+        that comes closest (the allowed, within-limit one with the larger clearance)."""
+        cands = [k for k in range(2) if bool(self.ik.ok[i, k]) and bool(self.collides[i, k])]
+        if not cands:
+            return None
+        k = max(cands, key=lambda c: float(self.clearance[i, c]))
+        return self.blocked_by(i, k)
 
     def chosen_elbow(self, i: int) -> str | None:
         """Name of the chosen configuration, "both" at a singular pose, None when infeasible."""
@@ -73,8 +154,66 @@ class CellEvaluation:
         raise KeyError(target_id)
 
 
-def evaluate_arm(arm: Arm, targets: Iterable[Target]) -> ArmEvaluation:
-    """Evaluate one arm at its base pose against its targets.
+def choose_configuration(
+    ok: NDArray[np.bool_],
+    limit_margin_deg: NDArray[np.float64],
+    clearance: NDArray[np.float64],
+    link_width: float,
+) -> tuple[NDArray[np.int64], NDArray[np.float64]]:
+    """The chosen configuration per target and the scores (see the module docstring).
+
+    Parameters
+    ----------
+    ok : ndarray of bool, shape (N, 2)
+        Feasible configurations.
+    limit_margin_deg, clearance : ndarray, shape (N, 2)
+    link_width : float
+        Twice the arm's smallest link radius.
+
+    Returns
+    -------
+    chosen : ndarray of int, shape (N,)
+        0, 1 or -1 when no configuration is feasible.
+    score : ndarray, shape (N, 2)
+
+    Examples
+    --------
+    Positive: 40 deg of margin but 10 of clearance; negative: 15 deg and 200 (link width 40).
+
+    >>> ok = np.array([[True, True]])
+    >>> chosen, score = choose_configuration(ok, np.array([[40.0, 15.0]]),
+    ...                                      np.array([[10.0, 200.0]]), 40.0)
+    >>> chosen.tolist(), score.round(3).tolist()
+    ([1], [[0.25, 1.5]])
+    """
+    a = np.nan_to_num(limit_margin_deg, nan=-np.inf) / LIMIT_MARGIN_UNIT_DEG
+    b = np.nan_to_num(clearance, nan=-np.inf) / link_width
+    score = np.minimum(a, b)
+    other = np.maximum(a, b)
+    s0, s1 = np.where(ok, score, -np.inf).T
+    o0, o1 = np.where(ok, other, -np.inf).T
+    second = (s1 > s0) | ((s1 == s0) & (o1 > o0))
+    chosen = np.where(ok.any(axis=1), np.where(second, 1, 0), -1)
+    return chosen.astype(np.int64), score
+
+
+def evaluate_arm(
+    arm: Arm,
+    targets: Iterable[Target],
+    fixtures: Iterable[Fixture] = (),
+    margin: float = 0.0,
+) -> ArmEvaluation:
+    """Evaluate one arm at its base pose against its targets and the cell's fixtures.
+
+    Parameters
+    ----------
+    arm : Arm
+    targets : iterable of Target
+    fixtures : iterable of Fixture, optional
+        The cell's fixtures; those that block the arm (2.5-D rule) are checked against
+        its bodies. Without fixtures only reach, limits and elbow setting count.
+    margin : float, optional
+        The cell's vertical clearance margin (:func:`kinematics.bodies.clearance_margin`).
 
     Examples
     --------
@@ -82,24 +221,67 @@ def evaluate_arm(arm: Arm, targets: Iterable[Target]) -> ArmEvaluation:
     >>> ev = evaluate_arm(arm, [Target("t", "T", 480, 480, "a")])
     >>> bool(ev.feasible[0]), ev.reason(0)
     (False, 'beyond outer reach')
+
+    A column across link 1 of the only configuration within limits (the negative one):
+
+    >>> col = Fixture("c", "Column C1", "column", ((160, 220), (200, 220), (200, 260), (160, 260)))
+    >>> arm = Arm("b", "B", 0, 0, 0, 400, 250, (0, 180), (-120, 120), link_radii=(20, 15))
+    >>> ev = evaluate_arm(arm, [Target("t", "T", 450, 180, "b")], [col])
+    >>> bool(ev.feasible[0]), ev.reason(0), ev.blocked_body(0, 1)
+    (False, 'collides with Column C1', 'link 1')
     """
     targets = tuple(targets)
+    fixtures = tuple(fixtures)
     xy = np.array([(t.x, t.y) for t in targets], dtype=float).reshape(-1, 2)
     ik = solve_arm(arm, xy[:, 0], xy[:, 1])
+    n = len(targets)
+    reach = ik.reachable[:, None] & np.ones((n, 2), dtype=bool)
+    bodies = arm_bodies(arm) if fixtures else None
+    if bodies is not None and n:
+        wh = work_heights(targets)
+        res = arm_clearance(arm, fixtures, ik.q_deg, wh[:, None], margin, bodies)
+        collides, clearance = res.collides, res.clearance
+        c_fix, c_body = res.fixture, res.body
+        width = 2.0 * bodies.min_link_radius
+    else:
+        collides = np.zeros((n, 2), dtype=bool)
+        clearance = np.where(reach, np.inf, np.nan)
+        c_fix = c_body = np.full((n, 2), -1, dtype=np.int64)
+        width = 1.0
+    ok = ik.ok & ~collides
+    feasible = ok.any(axis=-1)
+    chosen, score = choose_configuration(ok, ik.limit_margin_deg, clearance, width)
+    status = np.where(ik.feasible & ~feasible, int(Status.COLLISION), ik.status)
     return ArmEvaluation(
         arm=arm,
         target_ids=tuple(t.id for t in targets),
         xy=xy,
         ik=ik,
-        feasible=ik.feasible,
-        chosen=ik.chosen,
-        status=ik.status,
+        feasible=feasible,
+        chosen=chosen,
+        status=status.astype(np.int64),
+        collides=collides,
+        clearance=clearance,
+        clearance_fixture=c_fix,
+        clearance_body=c_body,
+        score=score,
+        fixtures=fixtures,
+        bodies=bodies,
     )
 
 
+def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
+    """:func:`evaluate_arm` for one arm of a cell: its targets, the cell's fixtures and margin.
+
+    The canvas re-evaluates one arm per drag step through this, so it sees collisions
+    exactly as ``check`` does.
+    """
+    return evaluate_arm(arm, cell.targets_of(arm.id), cell.fixtures, clearance_margin(cell))
+
+
 def evaluate_cell(cell: Cell) -> CellEvaluation:
-    """Evaluate every arm of a cell against the targets assigned to it."""
+    """Evaluate every arm of a cell against the targets assigned to it and the fixtures."""
     return CellEvaluation(
         cell=cell,
-        arms={arm.id: evaluate_arm(arm, cell.targets_of(arm.id)) for arm in cell.arms},
+        arms={arm.id: evaluate_cell_arm(cell, arm) for arm in cell.arms},
     )
