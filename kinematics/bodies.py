@@ -385,7 +385,7 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
             bodies.append(Body(name, frame, "polygon", outline=outlines[k]))
     tool = ex.get("tool_body")
     if tool is not None:
-        p = f"{path}.tool"
+        p = f"{path}.tool_body"
         if not isinstance(tool, Mapping) or not ({"radius", "outline"} & set(tool)):
             raise BodyDataError(p, 'must be an object with "radius" and/or "outline"', tool)
         unknown = set(tool) - {"radius", "outline"}
