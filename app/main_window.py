@@ -28,6 +28,7 @@ from PySide6.QtWidgets import (
 )
 
 from app import settings as app_settings
+from app.canvas import CellCanvas
 from app.commands import attach_undo_stack
 from app.document import Changes, Document
 from app.panels.arm_panel import ArmPanel
@@ -37,11 +38,6 @@ from app.panels.text import cursor_text, hover_text
 from kinematics.caution import CAUTION_FULL, CAUTION_SHORT
 from kinematics.cell import Arm, Cell
 from kinematics.cellfile import CellFileError, load_cell, save_cell
-
-try:
-    from app.canvas import CellCanvas
-except ImportError:  # the canvas is built alongside; keep the window usable without it
-    CellCanvas = None  # type: ignore[assignment,misc]
 
 __all__ = ["MainWindow", "APP_TITLE", "CELL_SUFFIX", "new_cell", "UNTITLED"]
 
@@ -76,23 +72,6 @@ def new_cell() -> Cell:
     return Cell(name="New cell", units="mm", arms=(arm,))
 
 
-class _Placeholder(QWidget):
-    """Stands in for the canvas when it cannot be imported."""
-
-    def __init__(self, document: Document, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.document = document
-
-    def actions(self) -> dict[str, QAction]:  # type: ignore[override]
-        return {}
-
-    def zoom_to_fit(self) -> None:
-        pass
-
-    def zoom_to(self, target_id: str) -> None:
-        pass
-
-
 class MainWindow(QMainWindow):
     """The Elbow Room main window on one document.
 
@@ -122,10 +101,7 @@ class MainWindow(QMainWindow):
         self.undo_stack = QUndoStack(self)
         attach_undo_stack(self.document, self.undo_stack)
 
-        if CellCanvas is not None:
-            self.canvas = CellCanvas(self.document, self)
-        else:
-            self.canvas = _Placeholder(self.document, self)
+        self.canvas = CellCanvas(self.document, self)
         self.canvas.setObjectName("canvas")
         self.setCentralWidget(self.canvas)
 
@@ -164,10 +140,9 @@ class MainWindow(QMainWindow):
         self.target_table.source.refused.connect(
             lambda msg: self.statusBar().showMessage(msg, 8000)
         )
-        if hasattr(self.canvas, "cursor_moved"):
-            self.canvas.cursor_moved.connect(self._on_cursor)
-            self.canvas.hovered_target.connect(self._on_hover)
-            self.canvas.status_message.connect(lambda msg: self.statusBar().showMessage(msg, 5000))
+        self.canvas.cursor_moved.connect(self._on_cursor)
+        self.canvas.hovered_target.connect(self._on_hover)
+        self.canvas.status_message.connect(lambda msg: self.statusBar().showMessage(msg, 5000))
 
         self.resize(1400, 900)
         if use_settings:
