@@ -46,15 +46,16 @@ def run(
     Returns
     -------
     int
-        0 on success, 2 when the cell file is bad (its one-line message is
-        printed to stderr), 1 when there is no display to open a window on or
-        the screenshot could not be written.
+        0 on success, 2 when the cell file is bad (every problem the loader
+        found is printed to stderr, one line each), 1 when there is no display
+        to open a window on or the screenshot could not be written.
     """
     path = Path(cell_path) if cell_path is not None else default_cell_path()
     try:
         cell = load_cell(path)
     except CellFileError as exc:
-        print(str(exc), file=sys.stderr)
+        # Every problem on its own line (as `elbowroom check` does), so one run shows them all.
+        sys.stderr.write("".join(f"{line}\n" for line in exc.problems))
         return 2
     if not _has_display() and not os.environ.get("QT_QPA_PLATFORM"):
         if screenshot is None:

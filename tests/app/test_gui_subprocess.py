@@ -143,6 +143,35 @@ def test_bad_cell_file_gives_one_line_and_exit_code_2(tmp_path, problem):
     assert "Traceback" not in proc.stderr
 
 
+def test_every_problem_of_a_bad_cell_file_gets_its_own_line(tmp_path):
+    # Same rule as `elbowroom check`: one line per problem, each naming file, JSON path and value.
+    data = json.loads(TRAY.read_text())
+    data["arms"][0]["links"][0] = -5
+    data["arms"][0]["elbow"] = "up"
+    data["targets"][0]["x"] = "1"
+    bad = tmp_path / "multi.cell.json"
+    bad.write_text(json.dumps(data))
+    before = bad.read_bytes()
+    for argv in ([str(bad)], [str(bad), "--screenshot", str(tmp_path / "x.png")]):
+        proc = run_python(
+            f"""
+            import sys
+            from app.cli import main
+            sys.exit(main({argv!r}))
+            """,
+            tmp_path,
+        )
+        assert proc.returncode == 2, proc.stderr
+        assert proc.stderr.splitlines() == [
+            "multi.cell.json: arms[0].links[0]: must be a positive number, got -5",
+            'multi.cell.json: arms[0].elbow: must be one of "any", "positive" or "negative", '
+            'got "up"',
+            'multi.cell.json: targets[0].x: must be a number, got "1"',
+        ]
+        assert not (tmp_path / "x.png").exists()
+    assert bad.read_bytes() == before
+
+
 def test_without_a_display_the_window_is_refused_with_one_line(tmp_path):
     env_code = """
         import os, sys
