@@ -76,6 +76,9 @@ ANGLE_STEP = 5.0  # heading snap step, degrees
 #: Snap pitch until one is set: 10 mm, or a quarter inch (common practice, no source).
 DEFAULT_PITCH = {"mm": 10.0, "in": 0.25}
 DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
+FIT_PADDING = 0.05  # zoom to fit leaves this fraction of the view free on each side
+FIT_LABEL_COST = 1.15  # zoom out up to this factor so labels can all sit right of their markers
+FIT_SPARE_PX = 6.0  # room left between a fitted label and the view's edge, pixels
 
 # Ghost roles: the chosen pose, the other configuration when it also works, and
 # the other configuration when it exists but breaks a limit or the elbow setting.
@@ -278,7 +281,7 @@ class CellCanvas(QWidget):
             QTimer.singleShot(0, self, self.zoom_to_fit)
 
     def zoom_to_fit(self) -> None:
-        """Show the whole cell: fixtures, targets and every arm's outer reach."""
+        """Show the whole cell: fixtures, targets with their labels, every arm's outer reach."""
         xs: list[float] = []
         ys: list[float] = []
         cell = self.document.cell
@@ -294,9 +297,64 @@ class CellCanvas(QWidget):
             xs += [a.x - r, a.x + r]
             ys += [a.y - r, a.y + r]
         if not xs:
-            self.vb.setRange(xRange=(-500, 500), yRange=(-500, 500), padding=0.05)
+            self.vb.setRange(xRange=(-500, 500), yRange=(-500, 500), padding=FIT_PADDING)
             return
-        self.vb.setRange(xRange=(min(xs), max(xs)), yRange=(min(ys), max(ys)), padding=0.05)
+        x0, x1, y0, y1 = min(xs), max(xs), min(ys), max(ys)
+        x0, x1, y0, y1 = self._fit_labels(x0, x1, y0, y1)
+        self.vb.setRange(xRange=(x0, x1), yRange=(y0, y1), padding=FIT_PADDING)
+
+    def _fit_labels(self, x0: float, x1: float, y0: float, y1: float):
+        """Grow a world box so every target label fits in view beside its marker.
+
+        Labels keep their pixel size while the scale follows the box, hence a few
+        rounds. Labels sit right of their markers where they can: the box grows
+        for that when it costs little scale; otherwise only where a label has room
+        on neither side (the label layout then picks the side wholly in view).
+        """
+        xy, side, above, below = self._labels.extents()
+        # A few pixels to spare, so rounding never leaves a label a hair outside the view.
+        side, above, below = side + FIT_SPARE_PX, above + FIT_SPARE_PX, below + FIT_SPARE_PX
+        vw, vh = float(self.vb.width()), float(self.vb.height())
+        if not len(xy) or vw < 50 or vh < 50:
+            return x0, x1, y0, y1
+        box = (x0, x1, y0, y1)
+        right = self._grow_for_labels(box, xy, side, above, below, vw, vh, either=False)
+        if self._fit_scale(right, vw, vh) <= FIT_LABEL_COST * self._fit_scale(box, vw, vh):
+            return right
+        return self._grow_for_labels(box, xy, side, above, below, vw, vh, either=True)
+
+    @staticmethod
+    def _fit_scale(box, vw: float, vh: float) -> float:
+        """World units per pixel that setRange with padding shows ``box`` at (1:1 aspect)."""
+        x0, x1, y0, y1 = box
+        grow = 1.0 + 2.0 * FIT_PADDING
+        return max((x1 - x0) * grow / vw, (y1 - y0) * grow / vh, 1e-12)
+
+    def _grow_for_labels(self, box, xy, side, above, below, vw, vh, either: bool):
+        x0, x1, y0, y1 = box
+        x, y = xy[:, 0], xy[:, 1]
+        for _ in range(12):
+            s = self._fit_scale((x0, x1, y0, y1), vw, vh)
+            # The edges actually shown: the 1:1 aspect widens one direction about the centre.
+            cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+            vx0, vx1 = cx - vw * s / 2, cx + vw * s / 2
+            vy0, vy1 = cy - vh * s / 2, cy + vh * s / 2
+            over_r = x + side * s - vx1
+            over_l = vx0 - (x - side * s)
+            if either:
+                stuck = (over_r > 0) & (over_l > 0)
+                to_right = stuck & (over_r <= over_l)
+                to_left = stuck & ~to_right
+            else:
+                to_right, to_left = over_r > 0, np.zeros(len(x), dtype=bool)
+            dx1 = float(over_r[to_right].max()) if to_right.any() else 0.0
+            dx0 = float(over_l[to_left].max()) if to_left.any() else 0.0
+            dy1 = max(float((y + above * s - vy1).max()), 0.0)
+            dy0 = max(float((vy0 - (y - below * s)).max()), 0.0)
+            if max(dx0, dx1, dy0, dy1) <= 1e-6 * s:
+                break
+            x0, x1, y0, y1 = x0 - dx0, x1 + dx1, y0 - dy0, y1 + dy1
+        return x0, x1, y0, y1
 
     def zoom_to(self, target_id: str) -> None:
         """Centre the view on a target, zooming in to about its arm's reach when far out."""

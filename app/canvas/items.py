@@ -43,6 +43,8 @@ __all__ = [
     "PlanView",
     "Grid",
     "nice_length",
+    "LABEL_GAP",
+    "MARKER_HALF",
 ]
 
 
@@ -502,6 +504,31 @@ class LabelsItem(pg.GraphicsObject):
         """Last layout: (x, y, width, height, name, reason, leader) per label, in pixels."""
         return list(self._layout)
 
+    def extents(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """How far the labels of a whole-cell view reach from their markers, in pixels.
+
+        Returns
+        -------
+        (ndarray, ndarray, ndarray, ndarray)
+            World anchors (n, 2); for each label the reach sideways (marker centre
+            to the far end of a label beside it, either side), above and below
+            the marker centre.
+        """
+        wanted, _names = self._wanted(None)
+        h = self._fm.height()
+        xy = np.zeros((len(wanted), 2))
+        side = np.zeros(len(wanted))
+        rows = np.zeros(len(wanted))
+        for k, (g, i, name, reason) in enumerate(wanted):
+            xy[k] = self._groups[g][0][i]
+            side[k] = max(
+                self._width(False, name) if name else 0.0,
+                self._width(True, reason) if reason else 0.0,
+            )
+            rows[k] = int(bool(name)) + int(bool(reason))
+        # A label beside its marker starts half a line above the marker's centre.
+        return xy, LABEL_GAP + side + 2.0, np.full(len(wanted), h / 2), rows * h - h / 2 + 1.0
+
     def viewRangeChanged(self) -> None:
         self.prepareGeometryChange()
 
@@ -606,6 +633,8 @@ class LabelsItem(pg.GraphicsObject):
                     self._devs[g] = _to_device(tr, xy)
                     self._placer.block_points(self._devs[g], MARKER_HALF)
         placer = self._placer
+        # The part of the device the view shows: labels prefer spots wholly inside it.
+        box = tr.mapRect(vr) if vr is not None else None
         keep = {(g, i) for g, i, _n, _r in wanted}
         # Gone labels leave their space blocked until the next full layout: no label moves.
         for key in [k for k in self._entries if k not in keep]:
@@ -631,7 +660,16 @@ class LabelsItem(pg.GraphicsObject):
                 (ax - rw / 2, ay + gap),
                 (ax - rw / 2, ay - gap - bh),
             )
-            spot = next((c for c in options if placer.free(c[0], c[1], c[0] + rw, c[1] + bh)), None)
+            # The first free spot wholly in view; one cut off by the edge only when none is.
+            spot = cut = None
+            for c in options:
+                if not placer.free(c[0], c[1], c[0] + rw, c[1] + bh):
+                    continue
+                if _inside(box, c[0] - 2.0, c[1], c[0] + w + 2.0, c[1] + bh):
+                    spot = c
+                    break
+                cut = cut or c
+            spot = spot or cut
             if spot is None:
                 # No room: overlapping texts would be unreadable. The marker's shape still
                 # tells the reason, the tooltip and the tables the rest.
@@ -669,6 +707,13 @@ class LabelsItem(pg.GraphicsObject):
         for sx, sy, _w, _bh, name, reason, _lead in self._layout:
             painter.drawImage(QPointF(sx - 2.0, sy), self._image(name, reason, dpr))
         painter.restore()
+
+
+def _inside(box: QRectF | None, x0: float, y0: float, x1: float, y1: float) -> bool:
+    """True when the pixel rectangle lies within ``box`` (or there is no box)."""
+    if box is None:
+        return True
+    return box.left() <= x0 and x1 <= box.right() and box.top() <= y0 and y1 <= box.bottom()
 
 
 class _Placer:

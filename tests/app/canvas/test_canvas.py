@@ -640,3 +640,54 @@ def test_canvas_verdicts_match_the_document_after_edits(qtbot, path):
         assert mine.target_ids == ev.target_ids
         assert np.array_equal(mine.status, ev.status)
         assert np.array_equal(mine.chosen, ev.chosen)
+
+
+def _view_box_px(canvas):
+    """The plot area in viewport pixels (where labels are drawn and clipped)."""
+    return canvas.plot.mapFromScene(canvas.vb.sceneBoundingRect()).boundingRect()
+
+
+@pytest.mark.parametrize("size", [(1100, 800), (900, 600)])
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_zoom_to_fit_shows_every_failure_label_whole(qtbot, path, size):
+    doc = Document(load_cell(path))
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+    c.resize(*size)
+    c.show()
+    qtbot.waitExposed(c)
+    c.zoom_to_fit()
+    c.grab()
+    box = _view_box_px(c)
+    placed = c._labels.placed()
+    failing = []
+    for t in doc.cell.targets:
+        ev = doc.evaluation.arms[t.arm]
+        if not ev.feasible[ev.index(t.id)]:
+            failing.append(t.name)
+    assert failing  # every sample shows at least one failing target
+    reasons = {name: reason for *_xy, name, reason, _lead in placed if reason}
+    assert set(reasons) == set(failing)
+    for x, y, w, h, name, _reason, _lead in placed:
+        # The label image spans 2 px either side of its text.
+        assert box.left() <= x - 2 and x + w + 2 <= box.right() + 1, name
+        assert box.top() <= y and y + h <= box.bottom() + 1, name
+
+
+def test_label_near_the_view_edge_moves_to_the_side_in_view(qtbot, canvas, rec):
+    doc = rec.doc
+    doc.edit(
+        "far",
+        replace(doc.cell, targets=doc.cell.targets + (Target("t9", "Far", 700.0, 240.0, "a"),)),
+    )
+    (x0, x1), (y0, y1) = canvas.vb.viewRange()
+    # Pan so "Far" sits 20 px inside the right edge: its label cannot fit right of it.
+    shift = 700.0 - (x1 - 20 * canvas._px())
+    canvas.vb.setRange(xRange=(x0 + shift, x1 + shift), yRange=(y0, y1), padding=0.0)
+    canvas.grab()
+    box = _view_box_px(canvas)
+    far = next(p for p in canvas._labels.placed() if p[4] == "Far")
+    x, _y, w, _h, _name, reason, lead = far
+    assert reason.startswith("✕ beyond outer reach")
+    assert x + w + 2 <= box.right() + 1
+    assert lead is not None  # not in its usual spot, so a leader line ties it to its marker
