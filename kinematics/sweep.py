@@ -5,10 +5,13 @@ ends. When the two ends use different elbow configurations the elbow must pass t
 full stretch (q2 = 0), so the move exists only when the q2 limits include 0; a path that
 would fold the elbow through q2 = +-180 is never used.
 
-Clearance along a move is exact to a small tolerance: the move is first sampled so that
-no point of any body travels more than a tenth of the smallest link radius between
-samples, then intervals are split where a Lipschitz bound (clearance cannot change faster
-than the fastest body point moves) leaves room for a smaller value or an earlier contact.
+Clearance along a move is bounded from below: the move is first sampled so that no point
+of any body travels more than a tenth of the smallest link radius between samples, then
+intervals are split where a Lipschitz bound (clearance cannot change faster than the
+fastest body point moves) leaves room for a smaller value or an earlier contact. The
+reported clearance is the resulting lower bound, at most a hundredth of the smallest link
+radius below the true minimum; whether and where the move first touches is settled to a
+millionth of the reach, and a move whose lower bound reaches 0 counts as colliding.
 
 The swept area is the union, over consecutive samples, of the convex hulls of each
 body's core (centre segment, tool point or outline) widened by the body's radius plus a
@@ -47,6 +50,7 @@ from .clearance import FixtureSet, pose_clearance
 
 __all__ = [
     "SAMPLE_FRACTION",
+    "MIN_TOL_FRACTION",
     "JointPath",
     "Contact",
     "MoveSweep",
@@ -63,8 +67,11 @@ __all__ = [
 
 #: Largest travel of any body point between samples, as a fraction of the smallest link radius.
 SAMPLE_FRACTION = 0.1
-# Clearance along a move is found to within this fraction of the arm's reach.
-CLEARANCE_TOL_REL = 1e-7
+#: The smallest clearance along a move is reported at most this fraction of the smallest
+#: link radius below the true one (never above it).
+MIN_TOL_FRACTION = 0.01
+# Whether and where a move first touches is settled to this fraction of the reach.
+CONTACT_TOL_REL = 1e-6
 # Polygonised circles in swept areas: segments per quarter circle.
 QUAD_SEGS = 128
 
@@ -258,7 +265,8 @@ class MoveSweep:
     samples : int
         Intervals of the base sampling (before refinement).
     clearance : float
-        Smallest clearance along the move (+inf when nothing blocks).
+        Guaranteed lower bound of the smallest clearance along the move, at most
+        MIN_TOL_FRACTION of the smallest link radius below it (+inf when nothing blocks).
     collides : bool
         ``clearance <= 0``.
     fixture, body : int
@@ -284,32 +292,50 @@ class MoveSweep:
     swept_by_body: dict[str, Any] | None = None
 
 
-def _refine(
-    eval_c: Any, s: NDArray, c: NDArray, speed: float, tol: float, first_contact: bool
-) -> tuple[NDArray, NDArray, NDArray]:
-    """Split intervals until the Lipschitz bound proves the minimum (and first contact)."""
-    extra = np.zeros(len(s), dtype=np.int64)  # row index into the evaluation record
-    extra[:] = np.arange(len(s))
-    for _ in range(80):
-        width = np.diff(s)
+def _bounds(s: NDArray, c: NDArray, speed: float) -> tuple[NDArray, NDArray]:
+    """Interval widths and Lipschitz lower bounds of the clearance on each interval."""
+    width = np.diff(s)
+    with np.errstate(invalid="ignore"):
         lower = 0.5 * (c[:-1] + c[1:] - speed * width)
-        lower = np.where(np.isfinite(lower), lower, np.inf)
+    return width, np.where(np.isnan(lower), np.inf, lower)
+
+
+def _refine(
+    eval_c: Any,
+    s: NDArray,
+    c: NDArray,
+    speed: float,
+    tol_min: float,
+    tol_contact: float,
+    cap: int,
+) -> tuple[NDArray, NDArray, NDArray]:
+    """Split intervals until the Lipschitz bound pins the minimum down to ``tol_min`` and
+    settles, to ``tol_contact``, whether and where the move first touches.
+
+    Stops early after ``cap`` evaluations; the caller's bounds then stay conservative.
+    """
+    rec = np.arange(len(s))  # row index into the evaluation record
+    done = len(s)
+    for _ in range(200):
+        width, lower = _bounds(s, c, speed)
         best = np.min(c)
-        need = (lower < best - tol) & (speed * width > tol)
-        if first_contact and best <= 0:
-            hit = int(np.argmax(c <= 0))
-            before = np.arange(len(width)) < hit
-            need |= before & (lower <= 0) & (speed * width > tol)
-        if not need.any():
+        need = (lower < best - tol_min) & (width > 1e-15)
+        touch = np.flatnonzero(c <= 0)
+        first = int(touch[0]) if len(touch) else len(c)
+        early = np.arange(len(width)) < first
+        need |= early & (lower <= 0) & (speed * width > tol_contact)
+        k = int(np.count_nonzero(need))
+        if k == 0 or done + k > cap:
             break
         mids = 0.5 * (s[:-1] + s[1:])[need]
         cm, idx = eval_c(mids)
+        done += k
         s = np.concatenate([s, mids])
         c = np.concatenate([c, cm])
-        extra = np.concatenate([extra, idx])
+        rec = np.concatenate([rec, idx])
         order = np.argsort(s, kind="stable")
-        s, c, extra = s[order], c[order], extra[order]
-    return s, c, extra
+        s, c, rec = s[order], c[order], rec[order]
+    return s, c, rec
 
 
 def sweep_move(
@@ -344,7 +370,8 @@ def sweep_move(
         raise ValueError(f"no joint path: {path.reason}")
     n = sample_count(bodies, path.delta)
     speed = point_speed(bodies, path.delta)
-    tol = CLEARANCE_TOL_REL * bodies.arm.reach_max
+    tol_min = MIN_TOL_FRACTION * bodies.min_link_radius
+    tol_contact = CONTACT_TOL_REL * bodies.arm.reach_max
     records: list[tuple[NDArray, NDArray]] = []
 
     def eval_c(ss: NDArray) -> tuple[NDArray, NDArray]:
@@ -355,24 +382,19 @@ def sweep_move(
 
     s0 = np.linspace(0.0, 1.0, n + 1)
     c0, _ = eval_c(s0)
-    s, c, idx = _refine(eval_c, s0, c0, speed, tol, first_contact=True)
+    cap = 20 * (n + 1) + 5000
+    s, c, idx = _refine(eval_c, s0, c0, speed, tol_min, tol_contact, cap)
     fix_all = np.concatenate([r[0] for r in records])
     body_all = np.concatenate([r[1] for r in records])
+    width, lower = _bounds(s, c, speed)
     k = int(np.argmin(c))
-    clearance = float(c[k])
+    # Report the guaranteed lower bound: never more than tol_min below the true minimum.
+    clearance = float(min(c[k], lower.min())) if len(lower) else float(c[k])
     contact = None
     if clearance <= 0:
-        width = np.diff(s)
-        lower = 0.5 * (c[:-1] + c[1:] - speed * width)
-        hit = int(np.argmax(c <= 0))
-        early = np.flatnonzero(lower[:hit] <= 0)
-        if len(early):
-            j = int(early[0])
-            at = j if c[j] <= c[j + 1] else j + 1
-            s_c = float(s[j])
-        else:
-            at = hit
-            s_c = float(s[hit])
+        j = int(np.argmax(lower <= 0)) if (lower <= 0).any() else max(0, k - 1)
+        at = j if c[j] <= c[min(j + 1, len(c) - 1)] else j + 1
+        s_c = float(s[j])
         q_c = path.at(s_c)
         fi, bi = int(fix_all[idx[at]]), int(body_all[idx[at]])
         outlines = fixture_outlines if fixture_outlines is not None else fixtures.polygons

@@ -423,18 +423,24 @@ def test_chosen_configuration_rule():
     from kinematics.cell import Target
     from kinematics.evaluate import LIMIT_MARGIN_UNIT_DEG, evaluate_arm
 
-    # Both configurations clear; the rule score = min(margin / 10 deg, clearance / (2 r)),
+    # Both configurations clear; the rule score = min(1, margin / 10 deg, clearance / (2 r)),
     # recomputed here from the reported margins and clearances.
     t = Target("t", "T", 500.0, 200.0, "a")
-    col = column(370, -120, 410, -80)  # near the positive elbow, not touching
-    ev = evaluate_arm(ARM, [t], [col])
-    assert not ev.collides[0].any()
     width = 2 * 15.0
-    score = np.minimum(ev.ik.limit_margin_deg[0] / LIMIT_MARGIN_UNIT_DEG, ev.clearance[0] / width)
-    assert score.tolist() == pytest.approx(ev.score[0].tolist())
-    assert int(ev.chosen[0]) == int(np.argmax(score))
-    assert ev.clearance[0, 0] < ev.clearance[0, 1]
-    assert ev.chosen_elbow(0) == "negative"  # the column costs the positive one its lead
+    for col, expect in (
+        (column(370, -70, 410, -60), "negative"),  # some 11 from the positive link 1
+        (column(370, -220, 410, -200), "positive"),  # both comfortable: equal margins, tie
+    ):
+        ev = evaluate_arm(ARM, [t], [col])
+        assert not ev.collides[0].any()
+        score = np.minimum(
+            np.minimum(ev.ik.limit_margin_deg[0] / LIMIT_MARGIN_UNIT_DEG, ev.clearance[0] / width),
+            1.0,
+        )
+        assert score.tolist() == pytest.approx(ev.score[0].tolist())
+        assert ev.chosen_elbow(0) == expect
+    near = evaluate_arm(ARM, [t], [column(370, -70, 410, -60)])
+    assert 0 < near.clearance[0, 0] < width <= near.clearance[0, 1]
 
 
 def test_cell_margin_and_work_heights_reach_the_verdict():

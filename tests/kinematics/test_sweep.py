@@ -14,6 +14,7 @@ from kinematics.clearance import FixtureSet
 from kinematics.evaluate import evaluate_cell
 from kinematics.ik import solve_arm
 from kinematics.sweep import (
+    MIN_TOL_FRACTION,
     SAMPLE_FRACTION,
     JointPath,
     cell_moves,
@@ -191,9 +192,10 @@ def test_move_clears_column_in_one_configuration_and_hits_it_in_the_other():
         results[cfg] = (sw, ref)
         if ref.min() > 0:
             # The true minimum lies at or below the sampled one, by at most half the
-            # travel between reference samples.
+            # travel between reference samples; ours is a lower bound within the tolerance.
             travel = point_speed(ab, path.delta) / 6000 / 2
-            assert ref.min() - travel - 1e-6 <= sw.clearance <= ref.min() + 1e-6
+            tol = MIN_TOL_FRACTION * ab.min_link_radius
+            assert ref.min() - travel - tol - 1e-9 <= sw.clearance <= ref.min() + 1e-6
         else:
             # shapely stops at touching (distance 0, less r); ours measures the depth too.
             assert sw.clearance <= ref.min() + 1e-6
@@ -272,6 +274,32 @@ def test_cell_moves_report_reasons():
         moves[1].collides is None and moves[1].reason == "target Far has no feasible configuration"
     )
     assert not moves[1].feasible
+
+
+def test_plateau_of_clearance_stays_cheap():
+    # Link 1 turning about the base next to a post behind the base: the nearest body point
+    # is the link's end cap at the base, so the clearance is constant along the move.
+    ab = arm_bodies(ARM)
+    post = np.array([[-100, -20], [-60, -20], [-60, 20], [-100, 20]], dtype=float)
+    calls = []
+    fs = FixtureSet([post])
+    path = joint_path(ARM, (-60.0, 30.0), (60.0, 30.0))
+    import kinematics.sweep as sw_mod
+
+    real = sw_mod.pose_clearance
+
+    def counting(*args, **kw):
+        calls.append(len(np.asarray(args[2]).reshape(-1, 2)))
+        return real(*args, **kw)
+
+    sw_mod.pose_clearance = counting
+    try:
+        sw = sweep_move(ab, fs, path, [True])
+    finally:
+        sw_mod.pose_clearance = real
+    assert sw.clearance == pytest.approx(60 - 25, abs=MIN_TOL_FRACTION * ab.min_link_radius)
+    assert sw.clearance <= 35.0 + 1e-9  # a lower bound
+    assert sum(calls) <= 20 * (sample_count(ab, path.delta) + 1)
 
 
 def test_move_without_blocking_fixtures_is_clear():
