@@ -8,12 +8,13 @@ by the arm's elbow setting and clear of every fixture that blocks the arm's bodi
 (:mod:`kinematics.bodies` states the 2.5-D rule). Of the feasible configurations the
 one with the larger score is chosen, where
 
-    score = min(limit margin / LIMIT_MARGIN_UNIT_DEG, clearance / (2 * smallest link radius))
+    score = min(1, limit margin / LIMIT_MARGIN_UNIT_DEG, clearance / (2 * smallest link radius))
 
-so 10 degrees of joint-limit margin count as much as one link width of clearance and
-the scarcer of the two decides; equal scores go to the larger of the two terms, then
-to the positive configuration. With no blocking fixtures the clearance is infinite
-and the rule is the plain larger limit margin.
+so a configuration within 10 degrees of a joint limit or within one link width of a
+blocking fixture scores below one that is comfortably clear of both, and the scarcer of
+the two decides. Equal scores (in particular two comfortable configurations, both 1) go
+to the larger limit margin, then to the positive configuration; with no blocking
+fixtures this is the plain larger-limit-margin rule.
 """
 
 from __future__ import annotations
@@ -178,21 +179,22 @@ def choose_configuration(
 
     Examples
     --------
-    Positive: 40 deg of margin but 10 of clearance; negative: 15 deg and 200 (link width 40).
+    Positive: 40 deg of margin but only 10 of clearance; negative: 15 deg and 200 (link
+    width 40). Then both comfortable: the larger limit margin wins.
 
-    >>> ok = np.array([[True, True]])
-    >>> chosen, score = choose_configuration(ok, np.array([[40.0, 15.0]]),
-    ...                                      np.array([[10.0, 200.0]]), 40.0)
+    >>> ok = np.array([[True, True], [True, True]])
+    >>> chosen, score = choose_configuration(ok, np.array([[40.0, 15.0], [40.0, 15.0]]),
+    ...                                      np.array([[10.0, 200.0], [90.0, 200.0]]), 40.0)
     >>> chosen.tolist(), score.round(3).tolist()
-    ([1], [[0.25, 1.5]])
+    ([1, 0], [[0.25, 1.0], [1.0, 1.0]])
     """
-    a = np.nan_to_num(limit_margin_deg, nan=-np.inf) / LIMIT_MARGIN_UNIT_DEG
+    m = np.nan_to_num(limit_margin_deg, nan=-np.inf)
+    a = m / LIMIT_MARGIN_UNIT_DEG
     b = np.nan_to_num(clearance, nan=-np.inf) / link_width
-    score = np.minimum(a, b)
-    other = np.maximum(a, b)
+    score = np.minimum(np.minimum(a, b), 1.0)
     s0, s1 = np.where(ok, score, -np.inf).T
-    o0, o1 = np.where(ok, other, -np.inf).T
-    second = (s1 > s0) | ((s1 == s0) & (o1 > o0))
+    m0, m1 = np.where(ok, m, -np.inf).T
+    second = (s1 > s0) | ((s1 == s0) & (m1 > m0))
     chosen = np.where(ok.any(axis=1), np.where(second, 1, 0), -1)
     return chosen.astype(np.int64), score
 
