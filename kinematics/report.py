@@ -13,6 +13,7 @@ from .cell import Cell
 from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
 from .ik import ELBOWS, Status
 from .regions import arm_regions
+from .sweep import MoveResult, cell_moves
 
 __all__ = ["REGION_TOL_MM", "check_report", "format_check_table"]
 
@@ -46,9 +47,33 @@ def _solutions(ev: ArmEvaluation, i: int) -> list[dict[str, Any]]:
                 "limit_margin_deg": _num(ik.limit_margin_deg[i, k]),
                 "singular": bool(ik.singular[i]),
                 "manipulability": _num(ik.manipulability[i, k]),
+                "collides": bool(ev.collides[i, k]),
+                "clearance": _num(ev.clearance[i, k]),
+                "blocked_by": _id(ev.blocked_by(i, k)),
+                "blocked_body": ev.blocked_body(i, k),
             }
         )
     return out
+
+
+def _id(fixture: Any) -> str | None:
+    return None if fixture is None else fixture.id
+
+
+def _moves(moves: list[MoveResult]) -> list[dict[str, Any]]:
+    return [
+        {
+            "arm": m.arm,
+            "from": m.from_id,
+            "to": m.to_id,
+            "collides": m.collides,
+            "clearance": None if m.clearance is None else _num(m.clearance),
+            "blocked_by": m.blocked_by,
+            "changes_configuration": None if m.path is None else m.path.changes_configuration,
+            "reason": m.reason or None,
+        }
+        for m in moves
+    ]
 
 
 def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
@@ -66,10 +91,14 @@ def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
     if int(ev.status[i]) == Status.ELBOW_EXCLUDED:
         fits = [ELBOWS[k] for k in (0, 1) if bool(ik.within_limits[i, k].all())]
         return f"{text} (only {' or '.join(fits)} fits)"
-    return text
+    return text  # a collision names the fixture: "collides with <fixture name>"
 
 
-def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[str, Any]:
+def check_report(
+    cell: Cell,
+    evaluation: CellEvaluation | None = None,
+    moves: list[MoveResult] | None = None,
+) -> dict[str, Any]:
     """Build the ``check --json`` report of a cell.
 
     Parameters
@@ -78,12 +107,14 @@ def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[s
         The cell to report on.
     evaluation : CellEvaluation, optional
         Its evaluation, when the caller already has one.
+    moves : list of MoveResult, optional
+        Its sequences' moves (:func:`kinematics.sweep.cell_moves`), when already computed.
 
     Returns
     -------
     dict
-        JSON-ready: ``cell, units, arms, targets, summary`` as described in README.md;
-        lengths and areas in the cell's units, angles in degrees.
+        JSON-ready: ``cell, units, arms, targets, moves, summary`` as described in
+        README.md; lengths and areas in the cell's units, angles in degrees.
 
     Examples
     --------
@@ -128,6 +159,8 @@ def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[s
                 "solutions": _solutions(ev, i),
             }
         )
+    if moves is None:
+        moves = cell_moves(cell, ev_all)
     n_ok = sum(1 for t in targets if t["feasible"])
     summary = {
         "targets": len(targets),
@@ -141,6 +174,7 @@ def check_report(cell: Cell, evaluation: CellEvaluation | None = None) -> dict[s
         "units": cell.units,
         "arms": arms,
         "targets": targets,
+        "moves": _moves(moves),
         "summary": summary,
     }
 
@@ -229,6 +263,16 @@ def format_check_table(report: dict[str, Any]) -> str:
         lines.append("  ".join(cells).rstrip())
         if n == 0:
             lines.append("-" * len(lines[-1]))
+    if report.get("moves"):
+        lines += ["", "Moves (straight in joint space between the chosen configurations):"]
+        for m in report["moves"]:
+            verdict = "clear" if m["collides"] is False else "FAIL"
+            gap = "" if m["clearance"] is None else f", clearance {_fmt(m['clearance'])} {u}"
+            why = f": {m['reason']}" if m["reason"] else ""
+            lines.append(
+                f"  {_plain(m['arm'])}: {_plain(m['from'])} -> {_plain(m['to'])}  "
+                f"{verdict}{gap}{why}"
+            )
     s = report["summary"]
     lines += [
         "",
