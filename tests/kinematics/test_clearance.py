@@ -482,3 +482,23 @@ def test_cell_margin_and_work_heights_reach_the_verdict():
     tight = Cell("c", arms=(arm,), fixtures=(table,), targets=(t,), extra={"clearance_margin": 250})
     ev = evaluate_cell(tight).arms["a"]
     assert not ev.feasible[0] and ev.blocked_body(0, 0) == "link 1"
+
+
+def test_demo_cell_only_one_configuration_clears_the_column():
+    from pathlib import Path
+
+    from kinematics.cellfile import load_cell
+    from kinematics.evaluate import evaluate_cell
+
+    path = Path(__file__).resolve().parents[2] / "sample_cells" / "column_one_elbow.cell.json"
+    cell = load_cell(path)
+    ev, i = evaluate_cell(cell).locate("nest")
+    # Both configurations are within limits; the column stops one of them.
+    assert ev.ik.ok[i].all()
+    assert ev.collides[i].tolist() == [False, True]
+    assert ev.blocked_by(i, 1).id == "column" and ev.chosen_elbow(i) == "positive"
+    # Reference: shapely says the same of the bodies at both poses (polygonised buffers).
+    col = shapely.Polygon(cell.fixtures[0].outline)
+    for k, hits in ((0, False), (1, True)):
+        shapes = ev.bodies.shapes(ev.ik.q_deg[i, k])
+        assert any(s.intersects(col) for s in shapes.values()) == hits

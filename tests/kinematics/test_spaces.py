@@ -198,3 +198,20 @@ def test_maximum_operating_and_sources():
     assert sp2.maximum_source == "joint limits" and sp2.operating is None
     whole = cell_spaces(cell, ev)
     assert set(whole.arms) == {"a"} and whole.zones == [] and whole.targets == {}
+
+
+def test_demo_two_arm_cell_has_a_shared_zone():
+    from pathlib import Path
+
+    from kinematics.cellfile import load_cell
+
+    path = Path(__file__).resolve().parents[2] / "sample_cells" / "shared_zone_two_arm.cell.json"
+    cell = load_cell(path)
+    sp = cell_spaces(cell, evaluate_cell(cell))
+    kinds = {z.kind for z in sp.zones}
+    assert kinds == {"restricted", "operating"}
+    # The handover point lies in both arms' operating spaces (shapely covers).
+    handover = shapely.Point(475, 0)
+    assert sp.arms["left"].operating.covers(handover)
+    assert sp.arms["right"].operating.covers(handover)
+    assert set(sp.targets) == {"handover_put", "handover_take"}
