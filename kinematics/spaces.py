@@ -37,11 +37,9 @@ from .bodies import (
     arm_bodies,
     clearance_margin,
     mechanical_limits,
-    work_heights,
 )
-from .cell import Arm, Cell
-from .clearance import arm_clearance
-from .ik import solve_arm
+from .cell import Arm, Cell, Target
+from .evaluate import evaluate_arm
 from .sweep import MoveResult, cell_moves, outward_buffer, swept_shapes
 
 __all__ = [
@@ -370,23 +368,20 @@ def shared_zones(spaces: Sequence[ArmSpaces], min_area: float = 0.0) -> list[Sha
     return out
 
 
-def reachable_by(cell: Cell, arm: Arm, xy: NDArray, wh: NDArray) -> NDArray[np.bool_]:
-    """Whether an arm has a configuration within limits, allowed by its elbow setting and
-    clear of blocking fixtures at each point (rows of ``xy``; work heights ``wh``, NaN = none).
-    """
-    ik = solve_arm(arm, xy[:, 0], xy[:, 1])
-    res = arm_clearance(arm, cell.fixtures, ik.q_deg, wh[:, None], clearance_margin(cell))
-    ok = ik.ok & ~res.collides & ~np.isnan(res.clearance)
-    return ok.any(axis=-1)
+def reachable_by(cell: Cell, arm: Arm, targets: Sequence[Target]) -> NDArray[np.bool_]:
+    """Whether ``arm`` could serve each target: the verdict of
+    :func:`kinematics.evaluate.evaluate_arm` (limits, elbow setting, clear of blocking
+    fixtures at the target's work height) as if the target were assigned to it."""
+    mine = [Target(t.id, t.name, t.x, t.y, arm.id, t.extra) for t in targets]
+    ev = evaluate_arm(arm, mine, cell.fixtures, clearance_margin(cell))
+    return np.asarray(ev.feasible, dtype=bool)
 
 
 def shared_targets(cell: Cell) -> dict[str, tuple[str, ...]]:
     """Targets (of any arm) that two or more arms can reach clear of blocking fixtures."""
     if not cell.targets or len(cell.arms) < 2:
         return {}
-    xy = np.array([(t.x, t.y) for t in cell.targets], dtype=float)
-    wh = work_heights(cell.targets)
-    reach = np.stack([reachable_by(cell, a, xy, wh) for a in cell.arms], axis=1)
+    reach = np.stack([reachable_by(cell, a, cell.targets) for a in cell.arms], axis=1)
     out = {}
     for k, t in enumerate(cell.targets):
         arms = tuple(a.id for a, ok in zip(cell.arms, reach[k]) if ok)
