@@ -217,7 +217,7 @@ def joint_box_space(
     arm = bodies.arm
     if tol is None:
         tol = SPACE_TOL_REL * arm.reach_max
-    tol = 0.5 * tol  # half for the arcs, half for the widening
+    tol = tol / 3.0  # a third each: arcs, chords of swept points, widening
     h = math.radians(arm.heading_deg)
     base = (arm.x, arm.y)
     elbow0 = (arm.x + arm.a1 * math.cos(h), arm.y + arm.a1 * math.sin(h))
