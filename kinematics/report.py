@@ -138,6 +138,7 @@ def check_report(
                 "reach_max": _num(arm.reach_max),
                 "reachable_area": _num(reg.reachable.area, 3),
                 "both_elbows_area": _num(reg.both.area, 3),
+                "link_radii_assumed": arm.link_radii is None,
             }
         )
     # One lookup table: locating each target by search would make big cells quadratic.
