@@ -331,9 +331,16 @@ def work_height(target: Target, path: str = "target") -> float | None:
     return None if v is None else _number(v, f"{path}.work_height")
 
 
-def work_heights(targets: Sequence[Target]) -> NDArray[np.float64]:
-    """Work heights of targets as an array, NaN where none is given."""
-    out = [work_height(t, f"targets[{t.id!r}]") for t in targets]
+def work_heights(
+    targets: Sequence[Target], paths: Sequence[str] | None = None
+) -> NDArray[np.float64]:
+    """Work heights of targets as an array, NaN where none is given.
+
+    ``paths`` are the targets' JSON paths for error messages (default: by id).
+    """
+    if paths is None:
+        paths = [f"targets[id={t.id!r}]" for t in targets]
+    out = [work_height(t, p) for t, p in zip(targets, paths)]
     return np.array([np.nan if h is None else h for h in out], dtype=float)
 
 
