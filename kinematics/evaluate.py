@@ -19,7 +19,7 @@ fixtures this is the plain larger-limit-margin rule.
 
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -204,6 +204,8 @@ def evaluate_arm(
     targets: Iterable[Target],
     fixtures: Iterable[Fixture] = (),
     margin: float = 0.0,
+    bodies: ArmBodies | None = None,
+    target_paths: Sequence[str] | None = None,
 ) -> ArmEvaluation:
     """Evaluate one arm at its base pose against its targets and the cell's fixtures.
 
@@ -216,6 +218,15 @@ def evaluate_arm(
         its bodies. Without fixtures only reach, limits and elbow setting count.
     margin : float, optional
         The cell's vertical clearance margin (:func:`kinematics.bodies.clearance_margin`).
+    bodies : ArmBodies, optional
+        Prebuilt bodies (default :func:`kinematics.bodies.arm_bodies`).
+    target_paths : sequence of str, optional
+        JSON paths of the targets, for messages about malformed ``work_height`` keys.
+
+    Raises
+    ------
+    kinematics.bodies.BodyDataError
+        When a body, height or margin key of the arm or a target is malformed.
 
     Examples
     --------
@@ -238,9 +249,12 @@ def evaluate_arm(
     ik = solve_arm(arm, xy[:, 0], xy[:, 1])
     n = len(targets)
     reach = ik.reachable[:, None] & np.ones((n, 2), dtype=bool)
-    bodies = arm_bodies(arm) if fixtures else None
+    if fixtures and bodies is None:
+        bodies = arm_bodies(arm)
+    if not fixtures:
+        bodies = None
     if bodies is not None and n:
-        wh = work_heights(targets)
+        wh = work_heights(targets, target_paths)
         res = arm_clearance(arm, fixtures, ik.q_deg, wh[:, None], margin, bodies)
         collides, clearance = res.collides, res.clearance
         c_fix, c_body = res.fixture, res.body
@@ -276,9 +290,19 @@ def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
     """:func:`evaluate_arm` for one arm of a cell: its targets, the cell's fixtures and margin.
 
     The canvas re-evaluates one arm per drag step through this, so it sees collisions
-    exactly as ``check`` does.
+    exactly as ``check`` does. Messages about malformed keys name the file's JSON paths.
     """
-    return evaluate_arm(arm, cell.targets_of(arm.id), cell.fixtures, clearance_margin(cell))
+    i = next((k for k, a in enumerate(cell.arms) if a.id == arm.id), None)
+    bodies = arm_bodies(arm, f"arms[{i}]" if i is not None else f"arms[id={arm.id!r}]")
+    picked = [(j, t) for j, t in enumerate(cell.targets) if t.arm == arm.id]
+    return evaluate_arm(
+        arm,
+        [t for _, t in picked],
+        cell.fixtures,
+        clearance_margin(cell),
+        bodies=bodies,
+        target_paths=[f"targets[{j}]" for j, _ in picked],
+    )
 
 
 def evaluate_cell(cell: Cell) -> CellEvaluation:
