@@ -39,6 +39,7 @@ from typing import Any
 from shapely.geometry import Polygon
 from shapely.validation import explain_validity
 
+from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
 
 __all__ = [
@@ -805,7 +806,14 @@ def parse_cell(text: str, source: str = "<text>") -> Cell:
         ) from None
     except ValueError as exc:
         raise CellFileError(f"{source}: not valid JSON ({_printable(str(exc))})") from None
-    return _build(data, decoder, source)
+    cell = _build(data, decoder, source)
+    try:
+        # Body, height and margin keys are read by the clearance engine; check them here
+        # so a malformed one is a file problem, not a failure later.
+        validate_cell_bodies(cell)
+    except BodyDataError as exc:
+        raise CellFileError(f"{source}: {exc}") from None
+    return cell
 
 
 def _os_reason(exc: OSError) -> str:

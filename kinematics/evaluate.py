@@ -15,18 +15,24 @@ blocking fixture scores below one that is comfortably clear of both, and the sca
 the two decides. Equal scores (in particular two comfortable configurations, both 1) go
 to the larger limit margin, then to the positive configuration; with no blocking
 fixtures this is the plain larger-limit-margin rule.
+
+Then, per sequence: when one configuration is feasible at every target of the
+sequence, all of them use it (the one whose worst score over the sequence is larger),
+because a configuration change passes through full stretch, costs time and sweeps a
+large area (common practice, no source).
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from numpy.typing import NDArray
 
 from .bodies import ArmBodies, arm_bodies, clearance_margin, work_heights
 from .cell import Arm, Cell, Fixture, Target
+from .cell import Sequence as Sequence_
 from .clearance import arm_clearance
 from .ik import ELBOWS, REASONS, IKResult, Status, solve_arm
 
@@ -38,6 +44,7 @@ __all__ = [
     "evaluate_cell",
     "evaluate_cell_arm",
     "choose_configuration",
+    "unify_sequences",
 ]
 
 #: Joint-limit margin worth one link width of clearance in the choice of configuration.
@@ -146,13 +153,17 @@ class CellEvaluation:
 
     cell: Cell
     arms: dict[str, ArmEvaluation]
+    _where: dict[str, tuple[str, int]] = field(default_factory=dict, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        for arm_id, ev in self.arms.items():
+            for i, tid in enumerate(ev.target_ids):
+                self._where[tid] = (arm_id, i)
 
     def locate(self, target_id: str) -> tuple[ArmEvaluation, int]:
         """The arm evaluation holding a target and the target's index in it."""
-        for ev in self.arms.values():
-            if target_id in ev.target_ids:
-                return ev, ev.index(target_id)
-        raise KeyError(target_id)
+        arm_id, i = self._where[target_id]
+        return self.arms[arm_id], i
 
 
 def choose_configuration(
@@ -286,6 +297,43 @@ def evaluate_arm(
     )
 
 
+def unify_sequences(ev: ArmEvaluation, sequences: Iterable[Sequence_]) -> ArmEvaluation:
+    """Give every target of a sequence one configuration where one is feasible at all of them.
+
+    Examples
+    --------
+    Two targets where both configurations fit, the first preferring "negative" and the
+    second "positive": with a sequence over both, they share one configuration.
+
+    >>> from kinematics.cell import Sequence as Seq
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150))
+    >>> ts = [Target("p", "P", 300, 400, "a"), Target("q", "Q", 500, -100, "a")]
+    >>> ev = evaluate_arm(arm, ts)
+    >>> same = unify_sequences(ev, [Seq("a", ("p", "q"))])
+    >>> len(set(same.chosen.tolist()))
+    1
+    """
+    ok = ev.ik.ok & ~ev.collides if ev.collides.size else ev.ik.ok
+    chosen = ev.chosen.copy()
+    where = {tid: i for i, tid in enumerate(ev.target_ids)}
+    for seq in sequences:
+        if seq.arm != ev.arm.id:
+            continue
+        idx = np.array(sorted({where[t] for t in seq.targets if t in where}), dtype=np.int64)
+        if idx.size < 2 or not ok[idx].any(axis=1).all():
+            continue
+        fits = ok[idx].all(axis=0)
+        if not fits.any() or len(set(chosen[idx].tolist())) == 1:
+            continue
+        m = np.nan_to_num(ev.ik.limit_margin_deg[idx], nan=-np.inf)
+        worst = [
+            (ev.score[idx, k].min(), m[:, k].min()) if fits[k] else (-np.inf, -np.inf)
+            for k in (0, 1)
+        ]
+        chosen[idx] = 1 if worst[1] > worst[0] else 0
+    return replace(ev, chosen=chosen)
+
+
 def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
     """:func:`evaluate_arm` for one arm of a cell: its targets, the cell's fixtures and margin.
 
@@ -295,7 +343,7 @@ def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
     i = next((k for k, a in enumerate(cell.arms) if a.id == arm.id), None)
     bodies = arm_bodies(arm, f"arms[{i}]" if i is not None else f"arms[id={arm.id!r}]")
     picked = [(j, t) for j, t in enumerate(cell.targets) if t.arm == arm.id]
-    return evaluate_arm(
+    ev = evaluate_arm(
         arm,
         [t for _, t in picked],
         cell.fixtures,
@@ -303,6 +351,7 @@ def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
         bodies=bodies,
         target_paths=[f"targets[{j}]" for j, _ in picked],
     )
+    return unify_sequences(ev, cell.sequences) if cell.sequences else ev
 
 
 def evaluate_cell(cell: Cell) -> CellEvaluation:

@@ -13,6 +13,7 @@ from .cell import Cell
 from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
 from .ik import ELBOWS, Status
 from .regions import arm_regions
+from .spaces import cell_spaces
 from .sweep import MoveResult, cell_moves
 
 __all__ = ["REGION_TOL_MM", "check_report", "format_check_table"]
@@ -162,6 +163,15 @@ def check_report(
         )
     if moves is None:
         moves = cell_moves(cell, ev_all)
+    spaces = cell_spaces(cell, ev_all, moves)
+    for a in arms:
+        sp = spaces.arms[a["id"]]
+        a["spaces"] = {
+            "maximum_area": _num(sp.maximum.area, 3),
+            "maximum_from": sp.maximum_source,
+            "restricted_area": _num(sp.restricted.area, 3),
+            "operating_area": None if sp.operating is None else _num(sp.operating.area, 3),
+        }
     n_ok = sum(1 for t in targets if t["feasible"])
     summary = {
         "targets": len(targets),
@@ -176,6 +186,11 @@ def check_report(
         "arms": arms,
         "targets": targets,
         "moves": _moves(moves),
+        # Zones two arms share need an interlock; so may targets several arms reach.
+        "shared_zones": [
+            {"arms": list(z.arms), "space": z.kind, "area": _num(z.area, 3)} for z in spaces.zones
+        ],
+        "shared_targets": {tid: list(arms) for tid, arms in spaces.targets.items()},
         "summary": summary,
     }
 
@@ -274,6 +289,22 @@ def format_check_table(report: dict[str, Any]) -> str:
                 f"  {_plain(m['arm'])}: {_plain(m['from'])} -> {_plain(m['to'])}  "
                 f"{verdict}{gap}{why}"
             )
+    lines += ["", "Spaces (ISO 10218 terms; areas in " + u + "^2):"]
+    for a in report["arms"]:
+        sp = a.get("spaces")
+        if sp:
+            lines.append(
+                f"  {_plain(a['id'])}: maximum {_fmt(sp['maximum_area'], 0)} "
+                f"(from the {sp['maximum_from']}), restricted {_fmt(sp['restricted_area'], 0)}, "
+                f"operating {_fmt(sp['operating_area'], 0)}"
+            )
+    for z in report.get("shared_zones", []):
+        lines.append(
+            f"  shared {z['space']} zone {' + '.join(_plain(x) for x in z['arms'])}: "
+            f"{_fmt(z['area'], 0)} {u}^2 (needs an interlock)"
+        )
+    for tid, arms in report.get("shared_targets", {}).items():
+        lines.append(f"  target {_plain(tid)} reachable by {', '.join(_plain(x) for x in arms)}")
     s = report["summary"]
     lines += [
         "",

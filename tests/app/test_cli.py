@@ -127,6 +127,7 @@ BAD_FILES = {
     "wide limits": (None, "joint_limits_deg[0]"),
     "min >= max": (None, "joint_limits_deg[1]"),
     "missing key": (None, "name"),
+    "bad tool body": (None, "arms[0].tool_body.radius"),
     "wrong type": (None, "targets[0].x"),
     "infinity": (None, "arms[0].base.x"),
     "duplicate key": (None, "units: key appears 2 times"),
@@ -165,6 +166,8 @@ def _bad_text(kind: str, good: dict) -> str:
         d["arms"][0]["joint_limits_deg"][1] = [120, -120]
     elif kind == "missing key":
         del d["name"]
+    elif kind == "bad tool body":
+        d["arms"][0]["tool_body"] = {"radius": -3}
     elif kind == "wrong type":
         d["targets"][0]["x"] = "450"
     elif kind == "infinity":
