@@ -16,6 +16,7 @@ from PySide6.QtCore import QByteArray, Qt
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence, QUndoStack
 from PySide6.QtWidgets import (
     QDockWidget,
+    QDoubleSpinBox,
     QFileDialog,
     QLabel,
     QMainWindow,
@@ -45,6 +46,7 @@ APP_TITLE = "Elbow Room"
 CELL_SUFFIX = ".cell.json"
 UNTITLED = "Untitled"
 _FILE_FILTER = "Cell files (*.cell.json);;All files (*)"
+_MAX_PITCH = 1e5  # grid pitch limit in cell units (a 100 m grid is no grid)
 
 # Submenu titles for the canvas's action key prefixes ("overlay.annulus" -> "Overlays").
 _ACTION_GROUPS = {
@@ -208,6 +210,8 @@ class MainWindow(QMainWindow):
         self.act_zoom_fit = self._action("&Zoom to Fit", self.canvas.zoom_to_fit, "Ctrl+0")
         self.act_about = self._action("&About Elbow Room", self.show_about)
         self.act_caution = self._action("Safety &Caution", self.show_caution)
+        self.act_pitch = self._action("Grid &Pitch…", self.edit_snap_pitch)
+        self.act_pitch.setToolTip("Set the grid pitch that positions snap to")
         for act in (self.act_new, self.act_open, self.act_save, self.act_save_as, self.act_quit):
             self.addAction(act)
 
@@ -244,6 +248,7 @@ class MainWindow(QMainWindow):
             if title not in submenus:
                 submenus[title] = view_menu.addMenu(title)
             submenus[title].addAction(act)
+        submenus[_ACTION_GROUPS["snap"]].addAction(self.act_pitch)
         view_menu.addSeparator()
         for dock in (self.arm_dock, self.table_dock, self.problems_dock):
             view_menu.addAction(dock.toggleViewAction())
@@ -260,8 +265,47 @@ class MainWindow(QMainWindow):
             self.toolbar.addSeparator()
             for act in tools:
                 self.toolbar.addAction(act)
+        self.toolbar.addSeparator()
+        self.toolbar.addAction(self.canvas.actions()["snap.enabled"])
+        self._build_pitch_box()
+        self.toolbar.addWidget(self.pitch_box)
         self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.toolbar)
         view_menu.addAction(self.toolbar.toggleViewAction())
+
+    def _build_pitch_box(self) -> None:
+        self.pitch_box = box = QDoubleSpinBox(self)
+        box.setObjectName("snap_pitch")
+        box.setToolTip(
+            "Grid pitch for snapping, in the cell's units (hold Alt or Ctrl to place freely)"
+        )
+        box.setPrefix("pitch ")
+        box.setKeyboardTracking(False)  # take the value on Enter or focus out, not per key
+        box.setAccelerated(True)
+        self._sync_pitch_box()  # before connecting: showing the value is no change
+        box.valueChanged.connect(self._on_pitch_box)
+        self.canvas.snap_pitch_changed.connect(lambda _p: self._sync_pitch_box())
+
+    def _sync_pitch_box(self) -> None:
+        """Show the canvas's pitch with the cell's units (and their precision)."""
+        box = self.pitch_box
+        units = self.document.cell.units
+        decimals = 3 if units == "in" else 2
+        box.blockSignals(True)
+        box.setDecimals(decimals)
+        box.setRange(10.0**-decimals, _MAX_PITCH)
+        box.setSuffix(f" {units}")
+        box.setValue(self.canvas.snap_pitch())
+        box.blockSignals(False)
+
+    def _on_pitch_box(self, value: float) -> None:
+        self.canvas.set_snap_pitch(value)
+        self.statusBar().showMessage(f"Snapping to a {self.pitch_box.text()} grid", 5000)
+
+    def edit_snap_pitch(self) -> None:
+        """Put the keyboard in the grid pitch box (showing the toolbar if it is hidden)."""
+        self.toolbar.show()
+        self.pitch_box.setFocus(Qt.FocusReason.ShortcutFocusReason)
+        self.pitch_box.selectAll()
 
     # ------------------------------------------------------------------ live updates
 
@@ -571,9 +615,12 @@ class MainWindow(QMainWindow):
             act = actions.get(key)
             if act is not None and act.isCheckable():
                 act.setChecked(checked)
+        for units, pitch in app_settings.load_snap_pitches().items():
+            self.canvas.set_snap_pitch(min(pitch, _MAX_PITCH), units)
+        self._sync_pitch_box()
 
     def save_settings(self) -> None:
-        """Store window layout and canvas toggles."""
+        """Store window layout, canvas toggles and snap pitches."""
         if not self.use_settings:
             return
         app_settings.save_bytes("window/geometry", QByteArray(self.saveGeometry()))
@@ -581,6 +628,7 @@ class MainWindow(QMainWindow):
         app_settings.save_toggles(
             {k: a.isChecked() for k, a in self.canvas.actions().items() if a.isCheckable()}
         )
+        app_settings.save_snap_pitches(self.canvas.snap_pitches())
 
     def closeEvent(self, event: QCloseEvent) -> None:
         if not self.maybe_save():

@@ -1,4 +1,4 @@
-"""The program's remembered settings: recent files, window layout, canvas toggles.
+"""The program's remembered settings: recent files, window layout, canvas toggles, snap pitch.
 
 Stored with QSettings under organisation "ElbowRoom", application "Elbow Room",
 in :meth:`QSettings.defaultFormat`, so tests can redirect everything to a
@@ -7,6 +7,7 @@ temporary INI file with ``QSettings.setDefaultFormat`` and ``QSettings.setPath``
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable
 from pathlib import Path
 
@@ -24,6 +25,8 @@ __all__ = [
     "save_bytes",
     "load_toggles",
     "save_toggles",
+    "load_snap_pitches",
+    "save_snap_pitches",
 ]
 
 ORGANISATION = "ElbowRoom"
@@ -33,6 +36,7 @@ MAX_RECENT = 8
 
 _RECENT_KEY = "files/recent"
 _TOGGLE_GROUP = "canvas"
+_PITCH_GROUP = "snap_pitch"
 
 
 def open_settings() -> QSettings:
@@ -123,5 +127,33 @@ def save_toggles(states: dict[str, bool], settings: QSettings | None = None) -> 
     s.beginGroup(_TOGGLE_GROUP)
     for key, checked in states.items():
         s.setValue(key, bool(checked))
+    s.endGroup()
+    s.sync()
+
+
+def load_snap_pitches(settings: QSettings | None = None) -> dict[str, float]:
+    """Stored grid pitches for snapping, by unit system; unusable entries are left out."""
+    s = settings or open_settings()
+    s.beginGroup(_PITCH_GROUP)
+    try:
+        out = {}
+        for units in s.childKeys():
+            try:
+                value = float(s.value(units))
+            except (TypeError, ValueError):
+                continue
+            if math.isfinite(value) and value > 0:
+                out[units] = value
+        return out
+    finally:
+        s.endGroup()
+
+
+def save_snap_pitches(pitches: dict[str, float], settings: QSettings | None = None) -> None:
+    """Store the grid pitches for snapping, by unit system."""
+    s = settings or open_settings()
+    s.beginGroup(_PITCH_GROUP)
+    for units, value in pitches.items():
+        s.setValue(units, float(value))
     s.endGroup()
     s.sync()

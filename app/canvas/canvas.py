@@ -73,7 +73,7 @@ PICK_PX = 8.0  # pick radius around points, screen pixels
 SNAP_PX = 10.0  # snap radius to fixture vertices and midpoints, screen pixels
 DRAG_PX = 3.0  # movement before a press becomes a drag
 ANGLE_STEP = 5.0  # heading snap step, degrees
-#: Snap pitch until one is set: 10 mm, or a quarter inch (common practice, no source).
+#: Snap pitch until one is set for the units: 10 mm, or a quarter inch (common practice, no source).
 DEFAULT_PITCH = {"mm": 10.0, "in": 0.25}
 DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
 FIT_PADDING = 0.05  # zoom to fit leaves this fraction of the view free on each side
@@ -138,17 +138,20 @@ class CellCanvas(QWidget):
         Id of the target under the pointer, '' for none.
     status_message(str)
         A short message for the status bar.
+    snap_pitch_changed(float)
+        The grid pitch for snapping changed (set, or the cell's units changed).
     """
 
     cursor_moved = Signal(float, float)
     hovered_target = Signal(str)
     status_message = Signal(str)
+    snap_pitch_changed = Signal(float)
 
     def __init__(self, document: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.document = document
-        self._snap_pitch = DEFAULT_PITCH.get(document.cell.units, 10.0)
-        self._pitch_set = False  # until set_snap_pitch, the pitch follows the cell's units
+        # Snap pitch per unit system: a pitch is a length in the cell's units.
+        self._pitches: dict[str, float] = dict(DEFAULT_PITCH)
         self._fitted_on_show = False
         self._evals: dict[str, ArmEvaluation] = {}
         self._regions: dict[str, _Regions] = {}
@@ -262,16 +265,31 @@ class CellCanvas(QWidget):
         """Checkable actions by stable key: overlays, ghost mode, snapping and tools."""
         return dict(self._actions)
 
-    def set_snap_pitch(self, pitch: float) -> None:
-        """Grid pitch for snapping, in cell units (a positive number)."""
-        if not (isinstance(pitch, int | float) and math.isfinite(pitch) and pitch > 0):
-            raise ValueError(f"snap pitch must be a positive number, got {pitch!r}")
-        self._snap_pitch = float(pitch)
-        self._pitch_set = True
+    def set_snap_pitch(self, pitch: float, units: str | None = None) -> None:
+        """Set the grid pitch for snapping, in ``units`` (default: the cell's units).
 
-    def snap_pitch(self) -> float:
-        """Grid pitch for snapping, in cell units."""
-        return self._snap_pitch
+        Raises
+        ------
+        ValueError
+            When ``pitch`` is not a positive finite number.
+        """
+        ok = isinstance(pitch, int | float) and not isinstance(pitch, bool)
+        if not (ok and math.isfinite(pitch) and pitch > 0):
+            raise ValueError(f"snap pitch must be a positive number, got {pitch!r}")
+        units = units or self._units
+        if self._pitches.get(units) != float(pitch):
+            self._pitches[units] = float(pitch)
+            if units == self._units:
+                self.snap_pitch_changed.emit(float(pitch))
+
+    def snap_pitch(self, units: str | None = None) -> float:
+        """Grid pitch for snapping, in ``units`` (default: the cell's units)."""
+        units = units or self._units
+        return self._pitches.get(units, DEFAULT_PITCH.get(units, 10.0))
+
+    def snap_pitches(self) -> dict[str, float]:
+        """Grid pitch for snapping by unit system (for remembering between runs)."""
+        return dict(self._pitches)
 
     def showEvent(self, event) -> None:  # noqa: N802 (Qt name)
         super().showEvent(event)
@@ -524,8 +542,7 @@ class CellCanvas(QWidget):
         cell = self.document.cell
         if cell.units != self._units:
             self._units = cell.units
-            if not self._pitch_set:
-                self._snap_pitch = DEFAULT_PITCH.get(cell.units, self._snap_pitch)
+            self.snap_pitch_changed.emit(self.snap_pitch())
             self.scale_bar.units = cell.units
             self._label_axes()
         for item in self._fixture_items.values():
@@ -927,7 +944,7 @@ class CellCanvas(QWidget):
             x,
             y,
             enabled=enabled,
-            pitch=self._snap_pitch,
+            pitch=self.snap_pitch(),
             anchors=anchors,
             radius=SNAP_PX * self._px(),
         )

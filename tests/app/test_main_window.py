@@ -8,7 +8,7 @@ from dataclasses import replace
 from pathlib import Path
 
 import pytest
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QPoint, Qt
 from PySide6.QtWidgets import QApplication, QMessageBox
 
 from app import settings as app_settings
@@ -493,3 +493,62 @@ def test_view_menu_holds_every_canvas_action(window):
         in_menus.add(menu_action)
     assert set(window.canvas.actions().values()) <= in_menus
     QApplication.processEvents()
+
+
+# ---------------------------------------------------------------------------- snapping
+
+
+def drag_on_canvas(win: MainWindow, qtbot, p0, p1, steps: int = 8, release: bool = True) -> None:
+    """Press on world point p0, move to p1 in steps with the button held, release."""
+    vp = win.canvas.viewport()
+    a, b = win.canvas.world_to_viewport(*p0), win.canvas.world_to_viewport(*p1)
+    qtbot.mousePress(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, a)
+    for i in range(1, steps + 1):
+        f = i / steps
+        qtbot.mouseMove(
+            vp, QPoint(round(a.x() + f * (b.x() - a.x())), round(a.y() + f * (b.y() - a.y())))
+        )
+    if release:
+        qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, b)
+
+
+def test_grid_pitch_is_set_in_the_toolbar_and_remembered(make_window, qtbot):
+    # 10 mm until set (common practice, no source), with or without stored settings.
+    assert make_window(use_settings=False).pitch_box.text() == "pitch 10.00 mm"
+    win = make_window()
+    box = win.pitch_box
+    assert box.text() == "pitch 10.00 mm"
+    snapping = next(
+        a.menu() for a in win.view_menu.actions() if a.menu() and a.text() == "Snapping"
+    )
+    assert win.act_pitch in snapping.actions()
+    win.act_pitch.trigger()
+    assert win.focusWidget() is box  # the menu entry puts the keyboard in the box
+    qtbot.keyClicks(box.lineEdit(), "25")
+    qtbot.keyClick(box.lineEdit(), Qt.Key.Key_Return)
+    assert win.canvas.snap_pitch() == 25.0
+    arm = win.document.cell.arms[0]
+    drag_on_canvas(win, qtbot, (arm.x, arm.y), (arm.x + 137.0, arm.y - 61.0))
+    moved = win.document.cell.arms[0]
+    assert (moved.x, moved.y) != (arm.x, arm.y)
+    assert moved.x % 25.0 == 0.0 and moved.y % 25.0 == 0.0
+    win.ask_unsaved_changes = lambda: "discard"
+    assert win.close()
+    again = make_window()
+    assert again.canvas.snap_pitch() == 25.0
+    assert again.pitch_box.text() == "pitch 25.00 mm"
+    # An inch cell has its own pitch, shown in inches.
+    inch = next(p for p in SAMPLES if load_cell(p).units == "in")
+    assert again.open_file(inch)
+    assert again.pitch_box.text() == "pitch 0.250 in"  # a quarter inch (common practice, no source)
+    assert again.canvas.snap_pitch() == 0.25
+
+
+def test_unusable_stored_pitches_are_ignored(make_window):
+    s = app_settings.open_settings()
+    for units, value in (("mm", "abc"), ("in", -1.0), ("ft", "nan")):
+        s.setValue(f"snap_pitch/{units}", value)
+    s.sync()
+    assert app_settings.load_snap_pitches() == {}
+    win = make_window()
+    assert win.canvas.snap_pitch() == 10.0 and win.pitch_box.text() == "pitch 10.00 mm"

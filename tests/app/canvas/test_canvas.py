@@ -608,15 +608,25 @@ def test_previews_from_elsewhere_return_to_full_labels_after_a_pause(qtbot, canv
     assert rec.pushed[-1].label == "Move base of Loader"
 
 
-def test_snap_pitch_follows_units_until_set(qtbot):
+def test_snap_pitch_is_kept_per_unit_system(qtbot):
     cell = replace(_cell(), units="in")
     c = CellCanvas(Document(cell))
     qtbot.addWidget(c)
+    seen = []
+    c.snap_pitch_changed.connect(seen.append)
     assert c.snap_pitch() == 0.25  # a quarter inch (common practice, no source)
     c.set_snap_pitch(0.1)
+    assert seen == [0.1]
+    # A pitch is a length in the cell's units: a millimetre cell gets its own.
     c.document.apply(replace(c.document.cell, units="mm", arms=()))
-    assert c.snap_pitch() == 0.1
+    assert c.snap_pitch() == 10.0  # common practice, no source
+    assert seen == [0.1, 10.0]
+    assert c.snap_pitch("in") == 0.1
     assert c.plot.getAxis("bottom").labelText == "x (mm)"
+    for bad in (0.0, -1.0, math.inf, math.nan, True):
+        with pytest.raises(ValueError, match="snap pitch"):
+            c.set_snap_pitch(bad)
+    assert c.snap_pitches() == {"mm": 10.0, "in": 0.1}
 
 
 @pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
