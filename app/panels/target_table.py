@@ -33,7 +33,14 @@ from PySide6.QtWidgets import (
 
 from app.bind import EchoGuard
 from app.document import Changes, Document
-from app.panels.text import closest_configuration, degrees, length, status_cell
+from app.panels.text import (
+    clearance_text,
+    closest_configuration,
+    degrees,
+    length,
+    nearest_text,
+    status_cell,
+)
 from app.panels.validate import Invalid, check_cell, format_number, replace_target, target_with
 from app.style import status_style
 from kinematics.ik import Status
@@ -68,6 +75,26 @@ COLUMNS = (
     Column("q1n", "q1 −", "q1, negative configuration (q2 < 0); ✕ past its limit", numeric=True),
     Column("q2n", "q2 −", "q2, negative configuration; ✕ past its limit", numeric=True),
     Column(
+        "clear_p",
+        "clearance +",
+        "Positive configuration: smallest distance from the arm's bodies to a fixture that "
+        "blocks them; ✕ collides (touching counts; negative: how deep it goes in)",
+        numeric=True,
+    ),
+    Column(
+        "clear_n",
+        "clearance −",
+        "Negative configuration: smallest distance from the arm's bodies to a fixture that "
+        "blocks them; ✕ collides (touching counts; negative: how deep it goes in)",
+        numeric=True,
+    ),
+    Column(
+        "nearest",
+        "nearest fixture",
+        "Chosen configuration (or the one that comes closest): the blocking fixture nearest "
+        "the arm and the body nearest it; ✕ collides",
+    ),
+    Column(
         "limit",
         "limit margin",
         "Degrees to the nearest joint limit in the chosen configuration (negative: past it)",
@@ -88,7 +115,7 @@ COLUMNS = (
 )
 _KEYS = [c.key for c in COLUMNS]
 # Widest a column starts (pixels); longer text is elided and shown whole in the tooltip.
-_COLUMN_CAPS = {"id": 110, "name": 160, "status": 290}
+_COLUMN_CAPS = {"id": 110, "name": 160, "status": 290, "nearest": 220}
 _EDIT_LABELS = {
     "name": "Rename {id}",
     "x": "Move {id}",
@@ -123,6 +150,14 @@ def _num(v: float) -> float:
     return v if math.isfinite(v) else -math.inf
 
 
+def _clear(ev: Any, i: int, k: int) -> float:
+    """Clearance for sorting: unlimited (nothing blocks) sorts last, no pose first."""
+    if not ev.clearance.size:
+        return -math.inf
+    v = float(ev.clearance[i, k])
+    return -math.inf if math.isnan(v) else v
+
+
 class TargetTableModel(QAbstractTableModel):
     """Table model over the document's targets and their evaluation.
 
@@ -153,8 +188,9 @@ class TargetTableModel(QAbstractTableModel):
                 ev, i = evaluation.locate(t.id)
             except KeyError:
                 text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
-                text += [f"✕ FAIL: no arm {t.arm!r}"] + ["—"] * 8
-                sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * 8
+                rest = len(COLUMNS) - 6
+                text += [f"✕ FAIL: no arm {t.arm!r}"] + ["—"] * rest
+                sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * rest
                 rows.append(_Row(t.id, text, sort, int(Status.BEYOND_REACH), False))
                 continue
             ik = ev.ik
@@ -176,11 +212,15 @@ class TargetTableModel(QAbstractTableModel):
                 status_cell(ev, i, u, short=True),
                 elbow,
                 *(_joint(v, bool(ok)) for v, ok in zip(q, within, strict=True)),
+                clearance_text(ev, i, 0, u, unit=False),
+                clearance_text(ev, i, 1, u, unit=False),
+                nearest_text(ev, i, k),
                 degrees(limit, False),
                 length(reach, u, False),
                 f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
             ]
             sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
+            sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
             sort += [_num(limit), _num(reach), _num(manip)]
             tip = status_cell(ev, i, u)
             rows.append(_Row(t.id, text, sort, st, bool(ev.feasible[i]), tip))
@@ -229,6 +269,10 @@ class TargetTableModel(QAbstractTableModel):
                 return f"{col.header}\n({units})"
             if col.key in ("q1p", "q2p", "q1n", "q2n"):
                 return f"{col.header}\n(°)"
+            if col.key in ("clear_p", "clear_n"):
+                return f"{col.header}\n({units})"
+            if col.key == "nearest":
+                return "nearest fixture\n(chosen)"
             if col.key == "limit":
                 return "limit\nmargin (°)"
             if col.key == "reach":
@@ -257,10 +301,18 @@ class TargetTableModel(QAbstractTableModel):
             return row.sort[c]
         if role == ID_ROLE:
             return row.id
-        if role == Qt.ItemDataRole.ToolTipRole and key in ("id", "name", "status"):
+        if role == Qt.ItemDataRole.ToolTipRole and key in ("id", "name", "status", "nearest"):
             return row.tip if key == "status" and row.tip else row.text[c]
         if role == Qt.ItemDataRole.TextAlignmentRole and COLUMNS[c].numeric:
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        if key in ("clear_p", "clear_n", "nearest") and "✕" in row.text[c]:
+            # Collisions: bold and the status colour, besides the ✕ mark.
+            if role == Qt.ItemDataRole.ForegroundRole:
+                return QBrush(QColor(status_style(Status.COLLISION).colour).darker(130))
+            if role == Qt.ItemDataRole.FontRole:
+                f = QFont()
+                f.setBold(True)
+                return f
         if key == "status":
             if role == Qt.ItemDataRole.ForegroundRole:
                 return QBrush(QColor(status_style(row.status).colour).darker(130))

@@ -6,7 +6,9 @@ import math
 from dataclasses import replace
 from pathlib import Path
 
+import numpy as np
 import pytest
+import shapely
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QApplication, QLineEdit
 
@@ -15,7 +17,7 @@ from app.panels.arm_panel import ArmPanel
 from app.panels.problems import NO_PROBLEMS, ProblemsList
 from app.panels.target_table import COLUMNS, SORT_ROLE, TargetTable
 from app.panels.validate import Invalid, arm_field, parse_number
-from kinematics.cell import Arm, Cell, Target
+from kinematics.cell import Arm, Cell, Fixture, Sequence, Target
 from kinematics.cellfile import dumps_cell, load_cell
 
 REPO = Path(__file__).resolve().parents[2]
@@ -393,3 +395,196 @@ def test_limit_failure_names_the_joint_the_amount_and_the_closest_configuration(
     # Both are below the 30 degree limit; the negative one comes closer.
     assert q1p < q1n < 30
     assert problems.lines() == [f"▲ t1 Bin — q1 limit by {30 - q1n:.1f}° (closest: negative elbow)"]
+
+
+# ---------------------------------------------------------------------------- clearance
+
+COLUMN = REPO / "sample_cells" / "column_one_elbow.cell.json"
+# A post (4 m tall, so it blocks the links) across the path of the pick -> nest move.
+POST = Fixture("post", "Post P1", "column", ((280, 330), (310, 330), (310, 360), (280, 360)), 4000)
+
+
+def _bodies_at(arm: Arm, q1: float, q2: float) -> dict[str, shapely.Geometry]:
+    """Centre segments of the links and the tool point, by the two-link forward kinematics
+    x = a1 cos(h + q1) + a2 cos(h + q1 + q2) (Craig, Introduction to Robotics, 3rd ed.,
+    sec. 3.6, worked planar arm; section from memory)."""
+    h, q1, q2 = math.radians(arm.heading_deg), math.radians(q1), math.radians(q2)
+    base = (arm.x, arm.y)
+    elbow = (base[0] + arm.a1 * math.cos(h + q1), base[1] + arm.a1 * math.sin(h + q1))
+    tool = (
+        elbow[0] + arm.a2 * math.cos(h + q1 + q2),
+        elbow[1] + arm.a2 * math.sin(h + q1 + q2),
+    )
+    return {
+        "link 1": shapely.LineString([base, elbow]),
+        "link 2": shapely.LineString([elbow, tool]),
+        "tool": shapely.Point(tool),
+    }
+
+
+def _reference_clearance(cell: Cell, target: Target, q: tuple[float, float]) -> float:
+    """Smallest clearance by shapely (the reference library): a capsule is the set of points
+    within r of its centre segment, so its distance to a polygon is shapely's exact segment
+    distance minus r. Blocking per the README's 2.5-D rule: links by fixtures at least as
+    tall as the link underside, the tool by fixtures taller than the work height."""
+    arm = cell.arm(target.arm)
+    r1, r2 = arm.link_radii
+    radius = {"link 1": r1, "link 2": r2, "tool": arm.extra["tool_body"]["radius"]}
+    wh = target.extra["work_height"]
+    best = math.inf
+    for name, core in _bodies_at(arm, *q).items():
+        for f in cell.fixtures:
+            blocks = f.height > wh if name == "tool" else f.height >= arm.link_underside_height
+            if blocks:
+                best = min(best, core.distance(shapely.Polygon(f.outline)) - radius[name])
+    return best
+
+
+@pytest.fixture
+def column_doc():
+    return Document(load_cell(COLUMN), COLUMN)
+
+
+def _row_text(table: TargetTable, tid: str, key: str) -> str:
+    src = table.source
+    return src.index(src.row_of(tid), KEYS.index(key)).data()
+
+
+def test_table_shows_the_clearance_of_each_configuration(qtbot, column_doc):
+    table = TargetTable(column_doc)
+    qtbot.addWidget(table)
+    cell = column_doc.cell
+    nest = next(t for t in cell.targets if t.id == "nest")
+    ev, i = column_doc.evaluation.locate("nest")
+    q_pos, q_neg = (tuple(float(v) for v in ev.ik.q_deg[i, k]) for k in (0, 1))
+    # The positive configuration clears everything: its clearance is shapely's distance.
+    ref = _reference_clearance(cell, nest, q_pos)
+    assert ref > 0
+    assert float(_row_text(table, "nest", "clear_p")) == pytest.approx(ref, abs=0.051)
+    # The negative one drives link 1 into the column: shapely finds link 1's centre segment
+    # closer to the column than the link radius, and the cell is marked, not only coloured.
+    column = shapely.Polygon(next(f for f in cell.fixtures if f.id == "column").outline)
+    link1 = _bodies_at(cell.arms[0], *q_neg)["link 1"]
+    assert link1.distance(column) < cell.arms[0].link_radii[0]
+    neg = _row_text(table, "nest", "clear_n")
+    assert neg.endswith(" ✕") and float(neg.split()[0]) < 0
+    assert _row_text(table, "nest", "status") == "● ok"
+    assert _row_text(table, "nest", "elbow") == "positive"
+    # Nearest fixture of the chosen (positive) configuration, with the body nearest it.
+    near = _row_text(table, "nest", "nearest")
+    assert not near.startswith("✕") and near.startswith("Building column C4 (")
+    m = table.source
+    header = m.headerData(KEYS.index("clear_n"), Qt.Orientation.Horizontal)
+    assert header == "clearance −\n(mm)"
+    sort = m.index(m.row_of("nest"), KEYS.index("clear_n")).data(SORT_ROLE)
+    assert isinstance(sort, float) and sort < 0
+
+
+def test_collision_status_names_the_fixture_and_the_body(qtbot, column_doc):
+    table = TargetTable(column_doc)
+    qtbot.addWidget(table)
+    cell = column_doc.cell
+    spare = next(t for t in cell.targets if t.id == "spare")
+    ev, i = column_doc.evaluation.locate("spare")
+    # shapely agrees that neither configuration clears the column.
+    for k in (0, 1):
+        q = tuple(float(v) for v in ev.ik.q_deg[i, k])
+        assert _reference_clearance(cell, spare, q) <= 0
+    status = _row_text(table, "spare", "status")
+    assert status.startswith("★ FAIL: collides with Building column C4 (link ")
+    assert "deep" in status
+    near = _row_text(table, "spare", "nearest")
+    assert near.startswith("✕ collides: Building column C4 (link ")
+    problems = ProblemsList(column_doc)
+    qtbot.addWidget(problems)
+    assert problems.problem_ids() == ["spare"]
+    (line,) = problems.lines()
+    assert line.startswith("★ spare Spare nest — collides with Building column C4 (link ")
+    assert line.endswith("closest: positive elbow)") or line.endswith("closest: negative elbow)")
+    # The depth shown is the engine's, in the cell's units.
+    k = 0 if "positive" in line else 1
+    assert f"{-float(ev.clearance[i, k]):.1f} mm deep" in line
+
+
+def test_colliding_move_is_listed_and_a_click_shows_both_targets(qtbot, column_doc):
+    cell = column_doc.cell
+    with_post = replace(cell, fixtures=cell.fixtures + (POST,))
+    column_doc.apply(with_post)
+    problems = ProblemsList(column_doc)
+    qtbot.addWidget(problems)
+    problems.resize(700, 300)
+    problems.show()
+    qtbot.waitExposed(problems)
+    assert problems.problem_moves() == [("arm", "pick", "nest"), ("arm", "nest", "pick")]
+    lines = problems.lines()
+    assert lines[0].startswith("★ spare ")
+    assert lines[1].startswith("★ move pick → nest — collides with Post P1 (link ")
+    assert problems.count_of_problems == 3 and problems.failing_targets == 1
+    # Reference: somewhere along the straight joint path between the chosen ends, shapely
+    # finds a link closer to the post than its radius (sampled every 0.5 degrees of q1).
+    ev = column_doc.evaluation.arms["arm"]
+    qa, qb = (ev.ik.q_deg[ev.index(t), int(ev.chosen[ev.index(t)])] for t in ("pick", "nest"))
+    steps = int(abs(qb[0] - qa[0]) / 0.5) + 1
+    post = shapely.Polygon(POST.outline)
+    arm = cell.arms[0]
+    hit = False
+    for s in np.linspace(0.0, 1.0, steps + 1):
+        q = qa + s * (qb - qa)
+        shapes = _bodies_at(arm, float(q[0]), float(q[1]))
+        hit |= any(
+            shapes[n].distance(post) < r for n, r in zip(("link 1", "link 2"), arm.link_radii)
+        )
+    assert hit
+    zoomed: list[list[str]] = []
+    problems.zoom_targets_requested.connect(zoomed.append)
+    rect = problems.visualItemRect(problems.item(1))
+    qtbot.mouseClick(problems.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    assert column_doc.selection.ids == ("pick", "nest")
+    assert zoomed == [["pick", "nest"]]
+    assert problems.item(1).isSelected() and problems.item(2).isSelected()
+    # Taking the post away again clears the move entries (no stale cached result).
+    column_doc.apply(cell)
+    assert problems.problem_moves() == []
+
+
+def test_impossible_move_is_listed_with_its_reason(qtbot):
+    # q2 limits -200..-10 exclude full stretch (q2 = 0). Target q sits near full fold
+    # where the positive pose (q2 = +170, i.e. -190) is the one within the q1 limits; p only
+    # in the negative one: the move between them would need q2 = 0 (or fold through 180).
+    arm = Arm("a", "A", 0, 0, 0, 400, 250, (-170, 170), (-200, -10), link_radii=(20, 15))
+    targets = (Target("p", "P", 300, 400, "a"), Target("q", "Q", -157.6, 27.8, "a"))
+    cell = Cell("c", arms=(arm,), targets=targets, sequences=(Sequence("a", ("p", "q")),))
+    doc = Document(cell)
+    ev = doc.evaluation.arms["a"]
+    assert [int(c) for c in ev.chosen] == [1, 0]  # different configurations at the two ends
+    problems = ProblemsList(doc)
+    qtbot.addWidget(problems)
+    assert problems.problem_ids() == []
+    assert problems.lines() == [
+        "▼ move p → q — configuration change needs full stretch (q2 = 0), outside the q2 limits",
+        "▼ move q → p — configuration change needs full stretch (q2 = 0), outside the q2 limits",
+    ]
+
+
+def test_moves_are_checked_again_once_a_drag_pauses(qtbot, column_doc):
+    problems = ProblemsList(column_doc)
+    qtbot.addWidget(problems)
+    cell = column_doc.cell
+    column_doc.preview(replace(cell, fixtures=cell.fixtures + (POST,)))
+    # Target entries follow each step at once; the moves wait for the pause.
+    assert problems.problem_ids() == ["spare"] and problems.moves_pending
+    assert problems.problem_moves() == []
+    qtbot.waitUntil(lambda: not problems.moves_pending, timeout=3000)
+    assert problems.problem_moves() == [("arm", "pick", "nest"), ("arm", "nest", "pick")]
+    column_doc.cancel_preview()
+    assert problems.problem_moves() == [] and not problems.moves_pending
+
+
+def test_move_cache_docstring_example():
+    # app/ is outside the doctest paths; the example shows the cache reusing unchanged moves.
+    import doctest
+
+    from app.panels import moves
+
+    result = doctest.testmod(moves)
+    assert result.attempted > 0 and result.failed == 0

@@ -1,0 +1,152 @@
+"""The moves of a cell's sequences, computed once per change of what each move depends on.
+
+Plain Python (no Qt). Moves are expensive (the clearance along a joint path is sampled
+finely), so the problems list and the canvas share one cache: a move is recomputed only
+when its arm, the fixtures, the clearance margin, one of its two targets or the
+configuration chosen at either end changed. Results are exactly those of
+:func:`kinematics.sweep.sequence_moves`, so they agree with ``check``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from kinematics.bodies import BodyDataError, arm_bodies, clearance_margin
+from kinematics.cell import Cell
+from kinematics.sweep import MoveResult, sequence_moves
+
+__all__ = ["MoveCache", "EvaluationView", "move_pairs", "move_body", "SHARED"]
+
+
+@dataclass(frozen=True)
+class EvaluationView:
+    """Anything with per-arm evaluations, shaped like a ``CellEvaluation`` for the engine."""
+
+    arms: Mapping[str, Any]
+
+
+def move_pairs(cell: Cell, arms: Iterable[str] | None = None) -> list[tuple[str, str, str]]:
+    """(arm, from, to) of every move of the cell's sequences, in order (sequences are cycles)."""
+    wanted = None if arms is None else set(arms)
+    out = []
+    for seq in cell.sequences:
+        if wanted is not None and seq.arm not in wanted:
+            continue
+        ids = list(seq.targets)
+        pairs = list(zip(ids[:-1], ids[1:]))
+        if len(ids) > 1:
+            pairs.append((ids[-1], ids[0]))
+        out.extend((seq.arm, a, b) for a, b in pairs)
+    return out
+
+
+def move_body(cell: Cell, move: MoveResult) -> str | None:
+    """Name of the body ("link 1", "tool", ...) at the smallest clearance of a colliding move."""
+    if not move.collides or move.sweep is None or move.sweep.body < 0:
+        return None
+    try:
+        names = arm_bodies(cell.arm(move.arm)).names
+    except (KeyError, BodyDataError):
+        return None
+    b = move.sweep.body
+    return names[b] if b < len(names) else None
+
+
+def _end(ev: Any, tid: str) -> tuple[float, float] | None:
+    if ev is None or tid not in ev.target_ids:
+        return None
+    i = ev.index(tid)
+    ch = int(ev.chosen[i])
+    if ch < 0:
+        return None
+    q = ev.ik.q_deg[i, ch]
+    return (float(q[0]), float(q[1]))
+
+
+class MoveCache:
+    """Moves keyed by what they depend on; see the module docstring.
+
+    Examples
+    --------
+    >>> from kinematics.cell import Arm, Sequence, Target
+    >>> from kinematics.evaluate import evaluate_cell
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-170, 170), (-150, 150), link_radii=(20, 15))
+    >>> ts = (Target("p", "P", 300, 400, "a"), Target("q", "Q", 500, -100, "a"))
+    >>> cell = Cell("c", arms=(arm,), targets=ts, sequences=(Sequence("a", ("p", "q")),))
+    >>> cache = MoveCache()
+    >>> [(m.from_id, m.to_id, m.collides) for m in cache.moves(cell, evaluate_cell(cell))]
+    [('p', 'q', False), ('q', 'p', False)]
+    >>> cache.computed
+    2
+    >>> _ = cache.moves(cell, evaluate_cell(cell)); cache.computed  # nothing changed
+    2
+    """
+
+    def __init__(self) -> None:
+        self._store: dict[tuple[str, str, str, bool], tuple[tuple, MoveResult]] = {}
+        #: Moves computed so far (for tests of the cache).
+        self.computed = 0
+
+    def moves(
+        self,
+        cell: Cell,
+        evaluation: Any,
+        polygons: bool = False,
+        arms: Iterable[str] | None = None,
+    ) -> list[MoveResult]:
+        """The moves of the cell's sequences (of ``arms`` only, when given), in order.
+
+        ``evaluation`` supplies ``arms[arm_id]`` (an ``ArmEvaluation``) for each arm; a
+        move with polygons also serves a request without them.
+        """
+        by_id = {t.id: t for t in cell.targets}
+        try:
+            margin = clearance_margin(cell)
+        except BodyDataError:
+            margin = float("nan")
+        out = []
+        pairs = move_pairs(cell, arms)
+        if len(self._store) > 4 * len(pairs) + 64:
+            # Forget moves of renamed or removed targets and sequences.
+            keep = {(arm_id, a, b) for arm_id, a, b in move_pairs(cell)}
+            self._store = {k: v for k, v in self._store.items() if k[:3] in keep}
+        for arm_id, a, b in pairs:
+            try:
+                arm = cell.arm(arm_id)
+            except KeyError:
+                continue
+            ev = evaluation.arms.get(arm_id)
+            sig = (
+                arm,
+                cell.fixtures,
+                margin,
+                by_id.get(a),
+                by_id.get(b),
+                _end(ev, a),
+                _end(ev, b),
+            )
+            hit = None
+            for poly in (True, polygons):
+                entry = self._store.get((arm_id, a, b, poly))
+                if entry is not None and entry[0] == sig:
+                    hit = entry[1]
+                    break
+            if hit is None:
+                try:
+                    hit = sequence_moves(cell, evaluation, arm_id, [a, b], False, polygons)[0]
+                except BodyDataError:
+                    continue
+                self.computed += 1
+                self._store[(arm_id, a, b, polygons)] = (sig, hit)
+            out.append(hit)
+        return out
+
+    def clear(self) -> None:
+        """Forget every stored move."""
+        self._store.clear()
+
+
+#: The cache the problems list and the canvas share.
+SHARED = MoveCache()
