@@ -20,7 +20,7 @@ from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QHBoxLayout, QMe
 from app import style
 from app.document import Changes, Document
 from kinematics.cell import FIXTURE_KINDS, Arm, Cell
-from kinematics.evaluate import ArmEvaluation, evaluate_arm
+from kinematics.evaluate import ArmEvaluation, evaluate_cell_arm
 from kinematics.fk import joint_points
 from kinematics.ik import ELBOWS, REASONS, Status
 from kinematics.regions import arm_regions
@@ -81,7 +81,7 @@ FIT_LABEL_COST = 1.15  # zoom out up to this factor so labels can all sit right 
 FIT_SPARE_PX = 6.0  # room left between a fitted label and the view's edge, pixels
 
 # Ghost roles: the chosen pose, the other configuration when it also works, and
-# the other configuration when it exists but breaks a limit or the elbow setting.
+# the other configuration when it exists but breaks a limit or hits a fixture.
 GHOST_ROLES = ("chosen", "alternative", "blocked")
 # One-pixel opaque pens: the fast path of Qt's stroker (wide or translucent is ~10x slower).
 _GHOST_PENS = {
@@ -115,6 +115,14 @@ class _Regions:
     pose: tuple[float, float, float]
     paths: dict[str, QPainterPath] = field(default_factory=dict)
     version: int = 0
+
+
+def _collides(ev: ArmEvaluation) -> np.ndarray:
+    """Per target and configuration: hits a blocking fixture (all False when none were checked)."""
+    hits = np.asarray(ev.collides, dtype=bool)
+    return (
+        hits if hits.shape == (len(ev.target_ids), 2) else np.zeros((len(ev.target_ids), 2), bool)
+    )
 
 
 def _arm_region_key(arm: Arm, tol: float) -> tuple:
@@ -561,7 +569,7 @@ class CellCanvas(QWidget):
             self._add(item, Z_ARM, cache=True)
             self._arm_items[a.id] = item
             self._update_arm_item(a.id)
-        self._evals = {a.id: evaluate_arm(a, cell.targets_of(a.id)) for a in cell.arms}
+        self._evals = {a.id: evaluate_cell_arm(cell, a) for a in cell.arms}
         self._refresh_targets()
         self._refresh_overlays()
         self._refresh_ghosts()
@@ -618,6 +626,10 @@ class CellCanvas(QWidget):
         if kinds_changed:
             self._refresh_legend()
         changed_arms = set(changes.arms)
+        if changes.fixtures or changes.other:
+            # Fixtures block arms and the clearance margin and sequences live in the cell:
+            # every arm's verdict may change.
+            changed_arms |= {a.id for a in cell.arms}
         if changes.targets:
             by_id = {t.id: t for t in cell.targets}
             for tid in changes.targets:
@@ -631,7 +643,7 @@ class CellCanvas(QWidget):
         for aid in changed_arms:
             if aid in self._arm_items:
                 self._update_arm_item(aid)
-                self._evals[aid] = evaluate_arm(cell.arm(aid), cell.targets_of(aid))
+                self._evals[aid] = evaluate_cell_arm(cell, cell.arm(aid))
         if changed_arms or changes.targets:
             self._refresh_targets()
             self._refresh_ghosts(changed_arms)
@@ -720,6 +732,8 @@ class CellCanvas(QWidget):
                     out[i] = f"{plain[st]} by {self._fmt(reach[i])} {u}"
                 elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT) and math.isfinite(lm[i]):
                     out[i] = f"{plain[st]} by {abs(float(lm[i])):.1f}°"
+                elif st is Status.COLLISION:
+                    out[i] = f"{style.status_style(st).glyph} {ev.reason(i)}"  # names the fixture
         self._reason_cache[ev.arm.id] = (ev, out, amounts)
         return out
 
@@ -838,16 +852,17 @@ class CellCanvas(QWidget):
             ik = ev.ik
             feasible = np.asarray(ev.feasible, dtype=bool) & show
             chosen = np.asarray(ev.chosen)
-            ok = np.asarray(ik.ok, dtype=bool)
+            # A configuration works when the engine's IK accepts it and it clears every fixture.
+            works = np.asarray(ik.ok, dtype=bool) & ~_collides(ev)
             allowed = np.asarray(ik.allowed, dtype=bool)
             single = np.asarray(ik.singular, dtype=bool)
             q = ik.q_deg
             for c in (0, 1):
                 masks = {
                     "chosen": feasible & (chosen == c),
-                    "alternative": feasible & (chosen != c) & ok[:, c] & ~single,
+                    "alternative": feasible & (chosen != c) & works[:, c] & ~single,
                     # Only configurations the elbow setting allows: an excluded one is no option.
-                    "blocked": feasible & (chosen != c) & allowed[:, c] & ~ok[:, c] & ~single,
+                    "blocked": feasible & (chosen != c) & allowed[:, c] & ~works[:, c] & ~single,
                 }
                 need = np.zeros(n, dtype=bool)
                 for m in masks.values():
@@ -895,7 +910,7 @@ class CellCanvas(QWidget):
             for role, words in (
                 ("chosen", "chosen"),
                 ("alternative", "other, also works"),
-                ("blocked", "other, past a limit"),
+                ("blocked", "other, past a limit or blocked"),
             ):
                 pen = self._ghost_pen(name, role)
                 pen.setWidthF(1.5)  # legend samples are tiny; a little heavier reads better
@@ -1276,11 +1291,13 @@ class CellCanvas(QWidget):
             q = ik.q_deg[i, c]
             if not np.all(np.isfinite(q)):
                 continue
-            mark = (
-                "chosen"
-                if int(ev.chosen[i]) == c
-                else ("ok" if bool(ik.ok[i, c]) else "not usable")
-            )
+            hit = ev.blocked_by(i, c) if _collides(ev)[i, c] else None
+            if int(ev.chosen[i]) == c:
+                mark = "chosen"
+            elif hit is not None:
+                mark = f"collides with {hit.name}"
+            else:
+                mark = "ok" if bool(ik.ok[i, c]) and not _collides(ev)[i, c] else "not usable"
             lines.append(
                 f"{name} elbow: q1 {q[0]:.1f}°, q2 {q[1]:.1f}° "
                 f"(margin {float(ik.limit_margin_deg[i, c]):.1f}°) — {mark}"

@@ -15,6 +15,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+import shapely
 from PySide6.QtCore import QEvent, QPoint, QPointF, Qt
 from PySide6.QtGui import QMouseEvent, QPainterPath
 from PySide6.QtWidgets import QApplication, QGraphicsItem
@@ -32,7 +33,19 @@ pytestmark = pytest.mark.qt_log_ignore("propagateSizeHints")
 
 
 def _cell() -> Cell:
-    arm = Arm("a", "Loader", 0.0, 0.0, 90.0, 400.0, 250.0, (-150.0, 150.0), (-140.0, 140.0))
+    # Links pass 400 mm up, over the 40 mm tray: only the keep-out aisle blocks the arm.
+    arm = Arm(
+        "a",
+        "Loader",
+        0.0,
+        0.0,
+        90.0,
+        400.0,
+        250.0,
+        (-150.0, 150.0),
+        (-140.0, 140.0),
+        link_underside_height=400.0,
+    )
     return Cell(
         "Bench",
         arms=(arm,),
@@ -42,6 +55,7 @@ def _cell() -> Cell:
                 "Tray",
                 "fixture",
                 ((300.0, 200.0), (500.0, 200.0), (500.0, 350.0), (300.0, 350.0)),
+                height=40.0,
             ),
             Fixture(
                 "k1", "Aisle", "keep-out", ((-600.0, -500.0), (-200.0, -500.0), (-200.0, -300.0))
@@ -701,3 +715,72 @@ def test_label_near_the_view_edge_moves_to_the_side_in_view(qtbot, canvas, rec):
     assert reason.startswith("✕ beyond outer reach")
     assert x + w + 2 <= box.right() + 1
     assert lead is not None  # not in its usual spot, so a leader line ties it to its marker
+
+
+def _square(cx: float, cy: float, half: float) -> tuple[tuple[float, float], ...]:
+    return (
+        (cx - half, cy - half),
+        (cx + half, cy - half),
+        (cx + half, cy + half),
+        (cx - half, cy + half),
+    )
+
+
+def test_a_fixture_hit_turns_a_configuration_down_live(qtbot, canvas, rec):
+    """A column on one pose's elbow: that pose is drawn as blocked, the other is chosen;
+    columns on both elbows: the target fails, naming the column, and has no ghost."""
+    doc = rec.doc
+    arm = replace(doc.cell.arm("a"), link_radii=(30.0, 25.0))
+    tx, ty = 150.0, 500.0
+    # Closed-form elbow points of both configurations (law of cosines, as in the module
+    # docstring's source): c2 = (r^2 - a1^2 - a2^2) / (2 a1 a2), elbow at angle t1 from the base.
+    r2 = tx * tx + ty * ty
+    c2 = (r2 - arm.a1**2 - arm.a2**2) / (2 * arm.a1 * arm.a2)
+    poses = []
+    for sign in (1.0, -1.0):
+        s2 = sign * math.sqrt(1 - c2 * c2)
+        t1 = math.atan2(ty, tx) - math.atan2(arm.a2 * s2, arm.a1 + arm.a2 * c2)
+        poses.append(((0.0, 0.0), (arm.a1 * math.cos(t1), arm.a1 * math.sin(t1)), (tx, ty)))
+    column = Fixture("c1", "Column", "column", _square(*poses[0][1], 20.0))  # no height: blocks
+    doc.edit(
+        "setup",
+        replace(
+            doc.cell,
+            arms=(arm,),
+            targets=(Target("tc", "Shelf", tx, ty, "a"),),
+            fixtures=(*doc.cell.fixtures, column),
+        ),
+    )
+
+    def links(pose):  # the two link capsules of a pose, built with shapely
+        base, elbow, tool = pose
+        return shapely.LineString([base, elbow]).buffer(30.0) | shapely.LineString(
+            [elbow, tool]
+        ).buffer(25.0)
+
+    col = shapely.Polygon(column.outline)
+    assert links(poses[0]).intersects(col) and not links(poses[1]).intersects(col)
+    ev = canvas.evaluation("a")
+    assert bool(ev.feasible[0]) and int(ev.chosen[0]) == 1  # the negative elbow
+    canvas.actions()["ghosts.all"].setChecked(True)
+    blocked = canvas._ghost_items[("a", 0, "blocked")].path()
+    assert blocked.elementCount() == 3  # base, elbow, tool of the positive pose
+    assert canvas._ghost_items[("a", 0, "alternative")].path().elementCount() == 0
+    elbow = (blocked.elementAt(1).x, blocked.elementAt(1).y)
+    assert elbow == pytest.approx(poses[0][1], abs=1e-6)
+    tip = canvas.target_tooltip("tc")
+    assert "● ok" in tip and "positive elbow" in tip and "collides with Column" in tip
+    # A second column on the other elbow: no configuration is left.
+    other = Fixture("c2", "Post", "column", _square(*poses[1][1], 20.0))
+    doc.edit("post", replace(doc.cell, fixtures=(*doc.cell.fixtures, other)))
+    ev = canvas.evaluation("a")
+    assert not bool(ev.feasible[0]) and int(ev.status[0]) == int(Status.COLLISION)
+    assert canvas.markers.count(int(Status.COLLISION)) == 1
+    canvas.grab()
+    assert _labels_of(canvas)["Shelf"].startswith("★ collides with ")
+    assert sum(it.path().elementCount() for it in canvas._ghost_items.values()) == 0
+    # Moving a column away (a fixture edit, no arm or target changed) frees the pose again.
+    moved = replace(other, outline=tuple((x + 400.0, y) for x, y in other.outline))
+    doc.edit("move post", replace(doc.cell, fixtures=(*doc.cell.fixtures[:-1], moved)))
+    ev = canvas.evaluation("a")
+    assert bool(ev.feasible[0]) and int(ev.chosen[0]) == 1
