@@ -1,7 +1,10 @@
 """Start the desktop program: ``run(cell_path)`` opens the main window on a cell.
 
 With ``screenshot`` the window is drawn once at a fixed size, saved as a PNG and
-closed, which works without a display (the offscreen platform is used then).
+closed, which works without a display (the offscreen platform is used then). The
+picture is taken once the window has settled: every pending event handled (layout,
+the canvas's fit once shown, first paint), counted in event rounds rather than waited
+for on the clock, so a busy machine gives the same picture, only later.
 """
 
 from __future__ import annotations
@@ -13,12 +16,12 @@ from pathlib import Path
 from app.resources import default_cell_path
 from kinematics.cellfile import CellFileError, load_cell
 
-__all__ = ["run", "DEFAULT_SCREENSHOT_SIZE", "SETTLE_MS"]
+__all__ = ["run", "DEFAULT_SCREENSHOT_SIZE", "SETTLE_ROUNDS"]
 
 #: Window size for screenshots, in pixels.
 DEFAULT_SCREENSHOT_SIZE = (1600, 1000)
-#: How long a screenshot waits for layout and first paint to settle, in milliseconds.
-SETTLE_MS = 300
+#: Event rounds a screenshot runs after the last one that found work, before the picture.
+SETTLE_ROUNDS = 3
 
 
 def _has_display() -> bool:
@@ -67,7 +70,6 @@ def run(
             return 1
         os.environ["QT_QPA_PLATFORM"] = "offscreen"
 
-    from PySide6.QtCore import QTimer
     from PySide6.QtWidgets import QApplication
 
     from app.document import Document
@@ -100,11 +102,9 @@ def run(
     w, h = size or DEFAULT_SCREENSHOT_SIZE
     window.resize(w, h)
     window.show()
-    app.processEvents()
-    window.canvas.zoom_to_fit()
-    QTimer.singleShot(SETTLE_MS, app.quit)
-    app.exec()
-    app.processEvents()
+    _settle(app)
+    window.canvas.zoom_to_fit()  # with the layout final, fit the view to the canvas's size
+    _settle(app)
     image = window.grab()
     shot = Path(screenshot)
     ok = shot.parent.is_dir() and image.save(str(shot), "PNG")
@@ -112,6 +112,37 @@ def run(
         print(f"{shot}: could not write the screenshot (does the folder exist?)", file=sys.stderr)
     _dispose(window, app)
     return 0 if ok else 1
+
+
+def _settle(app) -> None:
+    """Handle events until :data:`SETTLE_ROUNDS` rounds in a row find nothing more to do."""
+    from PySide6.QtCore import QCoreApplication, QEvent, QObject
+
+    class _Counter(QObject):
+        # Counts the events delivered in one round (posted ones and timers alike).
+        def __init__(self) -> None:
+            super().__init__()
+            self.seen = 0
+
+        def eventFilter(self, obj, event) -> bool:  # noqa: N802 (Qt name)
+            self.seen += 1
+            return False
+
+    counter = _Counter()
+    app.installEventFilter(counter)
+    try:
+        quiet = 0
+        for _ in range(10_000):  # a bound, never reached by a window that settles
+            counter.seen = 0
+            QCoreApplication.sendPostedEvents(None, 0)
+            app.processEvents()
+            # Deferred deletes are delivered only from an event loop; they change no picture.
+            QCoreApplication.sendPostedEvents(None, QEvent.Type.DeferredDelete)
+            quiet = quiet + 1 if counter.seen == 0 else 0
+            if quiet >= SETTLE_ROUNDS:
+                break
+    finally:
+        app.removeEventFilter(counter)
 
 
 def _dispose(window, app) -> None:

@@ -108,14 +108,45 @@ def test_screenshot_at_a_given_size_of_a_given_file(tmp_path):
     proc = run_python(
         f"""
         import sys
-        from pathlib import Path
-        from app import gui
-        sys.exit(gui.run(Path({str(TRAY)!r}), screenshot=Path({str(shot)!r}), size=(900, 640)))
+        from app.cli import main
+        sys.exit(main([{str(TRAY)!r}, "--screenshot", {str(shot)!r}, "--size", "900x640"]))
         """,
         tmp_path,
     )
     assert proc.returncode == 0, proc.stderr[-2000:]
     assert png_size(shot) == (900, 640)
+
+
+def test_screenshot_is_the_same_picture_on_a_busy_machine(tmp_path):
+    # The picture is taken once the window has settled (events, not a clock): a second run
+    # with a thread hogging the interpreter (as on a loaded machine) gives the same bytes.
+    shots = [tmp_path / "calm.png", tmp_path / "busy.png"]
+    for shot, busy in zip(shots, (False, True), strict=True):
+        proc = run_python(
+            f"""
+            import sys, threading
+            from pathlib import Path
+            from app import gui
+
+            def spin():
+                while True:
+                    sum(range(10_000))
+
+            if {busy!r}:
+                threading.Thread(target=spin, daemon=True).start()
+            sys.exit(gui.run(Path({str(TRAY)!r}), screenshot=Path({str(shot)!r}), size=(1000, 700)))
+            """,
+            tmp_path,
+        )
+        assert proc.returncode == 0, proc.stderr[-2000:]
+    calm, busy = (p.read_bytes() for p in shots)
+    assert calm == busy
+    # And it is a picture of the window, not a blank one: many colours in use.
+    from PySide6.QtGui import QImage
+
+    img = QImage(str(shots[0]))
+    colours = {img.pixel(x, y) for x in range(0, img.width(), 7) for y in range(0, img.height(), 7)}
+    assert len(colours) > 50
 
 
 @pytest.mark.parametrize("problem", ["bad value", "missing file"])
