@@ -552,3 +552,70 @@ def test_unusable_stored_pitches_are_ignored(make_window):
     assert app_settings.load_snap_pitches() == {}
     win = make_window()
     assert win.canvas.snap_pitch() == 10.0 and win.pitch_box.text() == "pitch 10.00 mm"
+
+
+# ---------------------------------------------------------------------------- drag by mouse
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_mouse_drag_of_a_base_updates_table_and_problems_live_and_undoes_exactly(
+    make_window, qtbot, path
+):
+    win = make_window(path)
+    win.canvas.actions()["snap.enabled"].setChecked(False)  # land where the pointer is
+    original = dumps_cell(win.document.cell)
+    before_statuses = table_status(win)
+    cell = win.document.cell
+    arm = cell.arms[0]
+    mine = [t for t in cell.targets if t.arm == arm.id]
+    far = max(mine, key=lambda t: math.hypot(t.x - arm.x, t.y - arm.y))
+    # Move the base straight away from its farthest target until that one is 40 units
+    # beyond the outer reach a1 + a2 (annulus law; Spong, Hutchinson and Vidyasagar,
+    # "Robot Modeling and Control", planar elbow manipulator).
+    d = math.hypot(far.x - arm.x, far.y - arm.y)
+    ux, uy = (arm.x - far.x) / d, (arm.y - far.y) / d
+    k = arm.a1 + arm.a2 + 40.0 - d
+    dest = (arm.x + k * ux, arm.y + k * uy)
+    drag_on_canvas(win, qtbot, (arm.x, arm.y), dest, release=False)
+    assert win.document.previewing
+
+    def check() -> None:
+        moved = win.document.cell.arm(arm.id)
+        statuses = table_status(win)
+        for t in mine:
+            r = math.hypot(t.x - moved.x, t.y - moved.y)
+            if r > moved.a1 + moved.a2:
+                beyond = r - (moved.a1 + moved.a2)
+                expected = (
+                    f"✕ FAIL: beyond outer reach by {beyond:.{2 if cell.units == 'in' else 1}f}"
+                )
+                assert statuses[t.id] == f"{expected} {cell.units}", t.id
+        assert statuses[far.id].startswith("✕ FAIL: beyond outer reach")
+        failing = [t.id for t in win.document.cell.targets if "FAIL" in statuses[t.id]]
+        assert win.problems.problem_ids() == failing
+        assert win.problems_dock.windowTitle() == f"Problems ({len(failing)})"
+
+    check()  # live, while the button is still down
+    vp = win.canvas.viewport()
+    qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, pos=win.canvas.world_to_viewport(*dest))
+    assert not win.document.previewing
+    check()
+    assert win.undo_stack.count() == 1
+    assert win.act_undo.text() == f"&Undo Move base of {arm.name}"
+    dragged = dumps_cell(win.document.cell)
+    win.undo()
+    assert dumps_cell(win.document.cell) == original
+    assert not win.document.dirty
+    assert table_status(win) == before_statuses
+    win.redo()
+    assert dumps_cell(win.document.cell) == dragged
+    # Esc mid-drag puts everything back as it was before that drag, and records nothing.
+    after_statuses = table_status(win)
+    moved = win.document.cell.arm(arm.id)
+    drag_on_canvas(win, qtbot, (moved.x, moved.y), (arm.x, arm.y), release=False)
+    assert table_status(win) != after_statuses
+    qtbot.keyClick(win.canvas.plot, Qt.Key.Key_Escape)
+    assert dumps_cell(win.document.cell) == dragged and not win.document.previewing
+    assert table_status(win) == after_statuses
+    qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, pos=win.canvas.world_to_viewport(0, 0))
+    assert dumps_cell(win.document.cell) == dragged and win.undo_stack.count() == 1
