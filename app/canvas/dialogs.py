@@ -14,6 +14,19 @@ from PySide6.QtWidgets import (
 __all__ = ["PositionDialog", "ask_position", "ask_name"]
 
 _BIG = 1e7  # spin box range in cell units; cells are metres, not kilometres, across
+_DECIMALS = 3  # shown decimals (a micrometre in mm, a thousandth in inches)
+
+
+def _kept(box: QDoubleSpinBox, start: float | None) -> float:
+    # The box shows the start rounded: OK without typing must not move the item by that.
+    if start is not None and not box.property("edited"):
+        return float(start)
+    return box.value()
+
+
+def _watch(box: QDoubleSpinBox) -> None:
+    box.setProperty("edited", False)
+    box.valueChanged.connect(lambda _v, b=box: b.setProperty("edited", True))
 
 
 class PositionDialog(QDialog):
@@ -29,6 +42,7 @@ class PositionDialog(QDialog):
         parent: QWidget | None = None,
     ) -> None:
         super().__init__(parent)
+        self._start = (x, y, heading)
         self.setWindowTitle(title)
         form = QFormLayout(self)
         self.x = self._spin(x, units)
@@ -39,9 +53,10 @@ class PositionDialog(QDialog):
         if heading is not None:
             self.heading = QDoubleSpinBox(self)
             self.heading.setRange(-360.0, 360.0)
-            self.heading.setDecimals(3)
+            self.heading.setDecimals(_DECIMALS)
             self.heading.setSuffix(" °")
             self.heading.setValue(heading)
+            _watch(self.heading)
             form.addRow("heading", self.heading)
         buttons = QDialogButtonBox(
             QDialogButtonBox.StandardButton.Ok | QDialogButtonBox.StandardButton.Cancel, self
@@ -53,14 +68,16 @@ class PositionDialog(QDialog):
     def _spin(self, value: float, units: str) -> QDoubleSpinBox:
         s = QDoubleSpinBox(self)
         s.setRange(-_BIG, _BIG)
-        s.setDecimals(3)
+        s.setDecimals(_DECIMALS)
         s.setSuffix(f" {units}")
         s.setValue(value)
+        _watch(s)
         return s
 
     def values(self) -> tuple[float, float, float | None]:
-        h = self.heading.value() if self.heading is not None else None
-        return self.x.value(), self.y.value(), h
+        """The values entered; a field left as shown keeps its exact starting value."""
+        h = _kept(self.heading, self._start[2]) if self.heading is not None else None
+        return _kept(self.x, self._start[0]), _kept(self.y, self._start[1]), h
 
 
 def ask_position(

@@ -784,3 +784,17 @@ def test_a_fixture_hit_turns_a_configuration_down_live(qtbot, canvas, rec):
     doc.edit("move post", replace(doc.cell, fixtures=(*doc.cell.fixtures[:-1], moved)))
     ev = canvas.evaluation("a")
     assert bool(ev.feasible[0]) and int(ev.chosen[0]) == 1
+
+
+def test_position_dialog_keeps_exact_values_left_untouched(qtbot):
+    from app.canvas.dialogs import PositionDialog
+
+    dlg = PositionDialog("Position", 12.345678, -0.0004, "mm", heading=33.33333)
+    qtbot.addWidget(dlg)
+    assert dlg.x.text() == "12.346 mm"  # shown to three decimals
+    # OK without typing: nothing moves, not even by the rounding of what is shown.
+    assert dlg.values() == (12.345678, -0.0004, 33.33333)
+    dlg.y.lineEdit().selectAll()
+    qtbot.keyClicks(dlg.y.lineEdit(), "7.5")
+    qtbot.keyClick(dlg.y.lineEdit(), Qt.Key.Key_Tab)
+    assert dlg.values() == (12.345678, 7.5, 33.33333)
