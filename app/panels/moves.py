@@ -101,12 +101,24 @@ class MoveCache:
         ``evaluation`` supplies ``arms[arm_id]`` (an ``ArmEvaluation``) for each arm; a
         move with polygons also serves a request without them.
         """
+        return [m for _key, m in self.lookup(cell, evaluation, polygons, arms) if m is not None]
+
+    def lookup(
+        self,
+        cell: Cell,
+        evaluation: Any,
+        polygons: bool = False,
+        arms: Iterable[str] | None = None,
+        compute: bool = True,
+    ) -> list[tuple[tuple[str, str, str], MoveResult | None]]:
+        """((arm, from, to), move) for every move; with ``compute=False`` a move not yet
+        stored for the current state is None instead of being computed (for drag steps)."""
         by_id = {t.id: t for t in cell.targets}
         try:
-            margin = clearance_margin(cell)
+            margin: float | None = clearance_margin(cell)
         except BodyDataError:
-            margin = float("nan")
-        out = []
+            margin = None
+        out: list[tuple[tuple[str, str, str], MoveResult | None]] = []
         pairs = move_pairs(cell, arms)
         if len(self._store) > 4 * len(pairs) + 64:
             # Forget moves of renamed or removed targets and sequences.
@@ -133,14 +145,14 @@ class MoveCache:
                 if entry is not None and entry[0] == sig:
                     hit = entry[1]
                     break
-            if hit is None:
+            if hit is None and compute:
                 try:
                     hit = sequence_moves(cell, evaluation, arm_id, [a, b], False, polygons)[0]
                 except BodyDataError:
                     continue
                 self.computed += 1
                 self._store[(arm_id, a, b, polygons)] = (sig, hit)
-            out.append(hit)
+            out.append(((arm_id, a, b), hit))
         return out
 
     def clear(self) -> None:
