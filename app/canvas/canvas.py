@@ -73,6 +73,7 @@ PICK_PX = 8.0  # pick radius around points, screen pixels
 SNAP_PX = 10.0  # snap radius to fixture vertices and midpoints, screen pixels
 DRAG_PX = 3.0  # movement before a press becomes a drag
 ANGLE_STEP = 5.0  # heading snap step, degrees
+ROTATE_MIN_PX = 6.0  # a turn needs the pointer this far from the base centre, pixels
 #: Snap pitch until one is set for the units: 10 mm, or a quarter inch (common practice, no source).
 DEFAULT_PITCH = {"mm": 10.0, "in": 0.25}
 DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
@@ -107,6 +108,7 @@ class _Drag:
     active: bool = False
     last: tuple | None = None
     label: str = ""
+    a0: float | None = None  # pointer angle about the base a turn is measured from
 
 
 @dataclass
@@ -1094,6 +1096,8 @@ class CellCanvas(QWidget):
         if kind in ("base", "rotate", "handle"):
             arm = cell.arm(hit.id)
             d.ref = (arm.x, arm.y)
+            if kind == "rotate" and math.hypot(x - arm.x, y - arm.y) >= ROTATE_MIN_PX * self._px():
+                d.a0 = math.degrees(math.atan2(y - arm.y, x - arm.x))
             d.label = f"Move base of {arm.name}" if kind == "base" else f"Rotate {arm.name}"
         elif kind == "target":
             t = next(t for t in cell.targets if t.id == hit.id)
@@ -1148,10 +1152,14 @@ class CellCanvas(QWidget):
         msg = ""
         if d.kind in ("rotate", "handle"):
             ax, ay = d.ref
+            if math.hypot(x - ax, y - ay) < ROTATE_MIN_PX * self._px():
+                return  # too near the base for a direction to mean anything
             ang = math.degrees(math.atan2(y - ay, x - ax))
             if d.kind == "rotate":
-                a0 = math.degrees(math.atan2(d.start[1] - ay, d.start[0] - ax))
-                ang = cell0.arm(d.id).heading_deg + (ang - a0)
+                if d.a0 is None:
+                    # Pressed on the pivot itself: the turn starts from here, not with a jump.
+                    d.a0 = ang
+                ang = cell0.arm(d.id).heading_deg + (ang - d.a0)
             h = snap_angle(ang, enabled=self._snap_enabled(mods), step=ANGLE_STEP)
             key = ("h", h)
             if key != d.last:

@@ -293,10 +293,11 @@ def test_shift_drag_on_base_and_handle_drag_turn_the_arm(qtbot, canvas, rec):
     assert rec.pushed[-1].label == "Rotate Loader"
     assert doc.cell.arm("a").heading_deg == pytest.approx(45.0)
     assert (doc.cell.arm("a").x, doc.cell.arm("a").y) == (0.0, 0.0)
-    # Shift-drag on the base turns it by the angle swept around the base.
-    _drag(qtbot, canvas, (10.0, 0.0), (0.0, 10.0), mods=Qt.KeyboardModifier.ShiftModifier)
+    # Shift-drag on the base turns it by the angle swept around the base: a quarter turn.
+    _drag(qtbot, canvas, (30.0, 0.0), (0.0, 30.0), mods=Qt.KeyboardModifier.ShiftModifier)
     assert rec.pushed[-1].label == "Rotate Loader"
     assert len(rec.pushed) == 2
+    assert doc.cell.arm("a").heading_deg == pytest.approx(135.0)
 
 
 def test_dragging_a_target_snaps_to_a_fixture_vertex(qtbot, canvas, rec):
@@ -798,3 +799,28 @@ def test_position_dialog_keeps_exact_values_left_untouched(qtbot):
     qtbot.keyClicks(dlg.y.lineEdit(), "7.5")
     qtbot.keyClick(dlg.y.lineEdit(), Qt.Key.Key_Tab)
     assert dlg.values() == (12.345678, 7.5, 33.33333)
+
+
+def test_shift_drag_pressed_on_the_base_centre_turns_without_a_jump(qtbot, canvas, rec):
+    doc = rec.doc
+    assert doc.cell.arm("a").heading_deg == 90.0
+    vp = canvas.viewport()
+    shift = Qt.KeyboardModifier.ShiftModifier
+    left = Qt.MouseButton.LeftButton
+    _send_mouse(vp, QEvent.Type.MouseButtonPress, _vp(canvas, 0.0, 0.0), shift, left, left)
+    # First a point well away from the centre, due +x: the turn is measured from there.
+    for x in (20.0, 40.0, 60.0):
+        _send_mouse(vp, QEvent.Type.MouseMove, _vp(canvas, x, 0.0), shift, left)
+    assert doc.cell.arm("a").heading_deg == 90.0  # no jump from where the press landed
+    _send_mouse(vp, QEvent.Type.MouseMove, _vp(canvas, 0.0, 60.0), shift, left)
+    # Swept a quarter turn counter-clockwise about the base: heading 90 + 90 degrees.
+    assert doc.cell.arm("a").heading_deg == pytest.approx(180.0)
+    _send_mouse(
+        vp,
+        QEvent.Type.MouseButtonRelease,
+        _vp(canvas, 0.0, 60.0),
+        shift,
+        Qt.MouseButton.NoButton,
+        left,
+    )
+    assert rec.pushed[-1].label == "Rotate Loader" and len(rec.pushed) == 1
