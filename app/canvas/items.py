@@ -458,6 +458,7 @@ class LabelsItem(pg.GraphicsObject):
         # (group, index) -> [name, reason, reserved w, rows, w, x, y, lead]
         self._entries: dict[tuple, list] = {}
         self._placer: _Placer | None = None
+        self._unplaced: set[tuple] = set()  # labels with no free spot in the current layout
         self._base_key: tuple | None = None
         self._prepared: tuple | None = None
         self._version = 0
@@ -627,6 +628,7 @@ class LabelsItem(pg.GraphicsObject):
             size = (vb.width() + 200, vb.height() + 200) if vb is not None else (4000.0, 4000.0)
             self._placer = _Placer(*size)
             self._entries = {}
+            self._unplaced = set()
             self._devs = {}
             for g, (xy, *_rest) in self._groups.items():
                 if len(xy):
@@ -651,6 +653,9 @@ class LabelsItem(pg.GraphicsObject):
             if e is not None and e[2] == rw and e[3] == rows:
                 e[0], e[1], e[4] = name, reason, w
                 continue
+            # Space only fills up between full layouts: a label that found none still has none.
+            if (g, i, rw, rows) in self._unplaced:
+                continue
             bh = h * rows
             ax, ay = float(self._devs[g][i, 0]), float(self._devs[g][i, 1])
             gap = LABEL_GAP
@@ -674,6 +679,7 @@ class LabelsItem(pg.GraphicsObject):
                 # No room: overlapping texts would be unreadable. The marker's shape still
                 # tells the reason, the tooltip and the tables the rest.
                 self._entries.pop((g, i), None)
+                self._unplaced.add((g, i, rw, rows))
                 continue
             placer.block(spot[0], spot[1], spot[0] + rw, spot[1] + bh)
             lead = None if spot == options[0] else (ax, ay)
