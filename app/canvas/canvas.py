@@ -80,6 +80,8 @@ DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality re
 FIT_PADDING = 0.05  # zoom to fit leaves this fraction of the view free on each side
 FIT_LABEL_COST = 1.15  # zoom out up to this factor so labels can all sit right of their markers
 FIT_SPARE_PX = 6.0  # room left between a fitted label and the view's edge, pixels
+FIT_LABEL_MAX_COST = 1.6  # zoom out at most this factor so labels fit on either side
+FIT_LABEL_SHARE = 0.45  # labels wider than this share of the view are not fitted
 
 # Ghost roles: the chosen pose, the other configuration when it also works, and
 # the other configuration when it exists but breaks a limit or hits a fixture.
@@ -343,13 +345,20 @@ class CellCanvas(QWidget):
         # A few pixels to spare, so rounding never leaves a label a hair outside the view.
         side, above, below = side + FIT_SPARE_PX, above + FIT_SPARE_PX, below + FIT_SPARE_PX
         vw, vh = float(self.vb.width()), float(self.vb.height())
+        # Labels too big for the view at any scale are left out (zooming out cannot help).
+        fits = (side < FIT_LABEL_SHARE * vw) & (above + below < FIT_LABEL_SHARE * vh)
+        xy, side, above, below = xy[fits], side[fits], above[fits], below[fits]
         if not len(xy) or vw < 50 or vh < 50:
             return x0, x1, y0, y1
         box = (x0, x1, y0, y1)
+        base = self._fit_scale(box, vw, vh)
         right = self._grow_for_labels(box, xy, side, above, below, vw, vh, either=False)
-        if self._fit_scale(right, vw, vh) <= FIT_LABEL_COST * self._fit_scale(box, vw, vh):
+        if self._fit_scale(right, vw, vh) <= FIT_LABEL_COST * base:
             return right
-        return self._grow_for_labels(box, xy, side, above, below, vw, vh, either=True)
+        either = self._grow_for_labels(box, xy, side, above, below, vw, vh, either=True)
+        if self._fit_scale(either, vw, vh) <= FIT_LABEL_MAX_COST * base:
+            return either
+        return box  # a cell shown small enough for every label is no use: show the cell
 
     @staticmethod
     def _fit_scale(box, vw: float, vh: float) -> float:

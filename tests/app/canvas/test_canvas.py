@@ -824,3 +824,26 @@ def test_shift_drag_pressed_on_the_base_centre_turns_without_a_jump(qtbot, canva
         left,
     )
     assert rec.pushed[-1].label == "Rotate Loader" and len(rec.pushed) == 1
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_zoom_to_fit_in_a_narrow_canvas_still_shows_the_cell_large(qtbot, path):
+    # Labels wider than a narrow plot cannot be fitted by zooming out: the cell stays big.
+    doc = Document(load_cell(path))
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+    c.resize(420, 320)  # the legend takes most of it
+    c.show()
+    qtbot.waitExposed(c)
+    c.zoom_to_fit()
+    cell = doc.cell
+    xs = [p[0] for f in cell.fixtures for p in f.outline] + [t.x for t in cell.targets]
+    xs += [a.x + s * a.reach_max for a in cell.arms for s in (-1, 1)]
+    ys = [p[1] for f in cell.fixtures for p in f.outline] + [t.y for t in cell.targets]
+    ys += [a.y + s * a.reach_max for a in cell.arms for s in (-1, 1)]
+    (vx0, vx1), (vy0, vy1) = c.vb.viewRange()
+    assert vx0 <= min(xs) and max(xs) <= vx1 and vy0 <= min(ys) and max(ys) <= vy1
+    # At most the zoom-out allowed for labels (1.6) over the padded 1:1 fit of the cell.
+    vw, vh = c.vb.width(), c.vb.height()
+    plain = max((max(xs) - min(xs)) * 1.1 / vw, (max(ys) - min(ys)) * 1.1 / vh)
+    assert (vx1 - vx0) / vw <= 1.6 * plain * 1.01
