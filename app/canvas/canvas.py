@@ -15,7 +15,16 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QActionGroup, QCursor, QPainterPath, QPen
-from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QHBoxLayout, QMenu, QWidget
+from PySide6.QtWidgets import (
+    QFrame,
+    QGraphicsItem,
+    QGraphicsPathItem,
+    QHBoxLayout,
+    QMenu,
+    QScrollArea,
+    QSizePolicy,
+    QWidget,
+)
 
 from app import style
 from app.document import Changes, Document
@@ -77,6 +86,7 @@ ROTATE_MIN_PX = 6.0  # a turn needs the pointer this far from the base centre, p
 #: Snap pitch until one is set for the units: 10 mm, or a quarter inch (common practice, no source).
 DEFAULT_PITCH = {"mm": 10.0, "in": 0.25}
 DRAFT_IDLE_MS = 250  # pause in step-by-step changes after which full quality returns
+LEGEND_MIN_PLOT_PX = 360  # the legend steps aside rather than leave the plot narrower
 FIT_PADDING = 0.05  # zoom to fit leaves this fraction of the view free on each side
 FIT_LABEL_COST = 1.15  # zoom out up to this factor so labels can all sit right of their markers
 FIT_SPARE_PX = 6.0  # room left between a fitted label and the view's edge, pixels
@@ -216,12 +226,26 @@ class CellCanvas(QWidget):
             # Axes only change with the view range; keep them as pixmaps between changes.
             self.plot.getAxis(name).setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
         self.legend = LegendWidget()
+        # Beside the plot, never over it; it scrolls when the canvas is too short for it.
+        self.legend_area = QScrollArea()
+        self.legend_area.setObjectName("legend_area")
+        self.legend_area.setWidget(self.legend)
+        self.legend_area.setWidgetResizable(True)
+        self.legend_area.setFrameShape(QFrame.Shape.NoFrame)
+        self.legend_area.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        bar = self.legend_area.verticalScrollBar().sizeHint().width()
+        self.legend_area.setFixedWidth(self.legend.width() + bar)
+        self.legend_area.setSizePolicy(QSizePolicy.Policy.Fixed, QSizePolicy.Policy.Ignored)
+        self.legend_area.viewport().setAutoFillBackground(False)
+        self.legend_area.setStyleSheet(
+            f"QScrollArea, QScrollArea > QWidget {{ background: {style.PAPER}; }}"
+        )
 
         lay = QHBoxLayout(self)
         lay.setContentsMargins(0, 0, 0, 0)
         lay.setSpacing(0)
         lay.addWidget(self.plot, 1)
-        lay.addWidget(self.legend, 0)
+        lay.addWidget(self.legend_area, 0)
 
         self.markers = MarkersItem(
             {int(st): (ss.symbol, ss.colour) for st, ss in style.STATUS_STYLES.items()}
@@ -302,6 +326,17 @@ class CellCanvas(QWidget):
     def snap_pitches(self) -> dict[str, float]:
         """Grid pitch for snapping by unit system (for remembering between runs)."""
         return dict(self._pitches)
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt name)
+        super().resizeEvent(event)
+        self._place_legend()
+
+    def _place_legend(self) -> None:
+        """Show the legend when asked for and when the plot keeps a useful width beside it."""
+        room = self.width() - self.legend_area.width() >= LEGEND_MIN_PLOT_PX
+        on = self._actions["legend.show"].isChecked() and room
+        if on != self.legend_area.isVisibleTo(self):
+            self.legend_area.setVisible(on)
 
     def showEvent(self, event) -> None:  # noqa: N802 (Qt name)
         super().showEvent(event)
@@ -505,7 +540,11 @@ class CellCanvas(QWidget):
         ):
             self._action(key, text, on, ghosts).toggled.connect(lambda _on: self._refresh_ghosts())
         legend = self._action("legend.show", "Show legend", True)
-        legend.toggled.connect(lambda on: self.legend.setVisible(on))
+        legend.setToolTip(
+            f"The legend beside the plot (it steps aside while the plot would be narrower "
+            f"than {LEGEND_MIN_PLOT_PX} pixels)"
+        )
+        legend.toggled.connect(lambda _on: self._place_legend())
         snap = self._action("snap.enabled", "Snap to grid and fixtures", True)
         snap.setToolTip(
             "Snap to the grid, fixture vertices and edge midpoints (hold Alt to suspend)"
@@ -921,7 +960,7 @@ class CellCanvas(QWidget):
             for role, words in (
                 ("chosen", "chosen"),
                 ("alternative", "other, also works"),
-                ("blocked", "other, past a limit or blocked"),
+                ("blocked", "other, not usable"),
             ):
                 pen = self._ghost_pen(name, role)
                 pen.setWidthF(1.5)  # legend samples are tiny; a little heavier reads better

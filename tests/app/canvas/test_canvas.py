@@ -847,3 +847,22 @@ def test_zoom_to_fit_in_a_narrow_canvas_still_shows_the_cell_large(qtbot, path):
     vw, vh = c.vb.width(), c.vb.height()
     plain = max((max(xs) - min(xs)) * 1.1 / vw, (max(ys) - min(ys)) * 1.1 / vh)
     assert (vx1 - vx0) / vw <= 1.6 * plain * 1.01
+
+
+def test_legend_steps_aside_in_a_narrow_canvas_and_scrolls_in_a_short_one(qtbot, canvas):
+    area = canvas.legend_area
+    assert area.isVisible()
+    assert canvas.plot.width() + area.width() <= canvas.width()  # beside the plot, not over it
+    canvas.resize(500, 800)
+    QApplication.processEvents()  # the layout follows in the event loop
+    assert not area.isVisible() and canvas.plot.width() == canvas.width()
+    canvas.resize(1100, 800)
+    assert area.isVisible()
+    canvas.actions()["legend.show"].setChecked(False)
+    assert not area.isVisible()
+    canvas.actions()["legend.show"].setChecked(True)
+    canvas.resize(1100, 200)  # shorter than the legend: it scrolls instead of being cut
+    QApplication.processEvents()
+    assert area.isVisible() and area.verticalScrollBar().maximum() > 0
+    # A ghost that is ruled out is explained too (limits or a fixture in the way).
+    assert any(t.endswith("other, not usable") for t in canvas.legend.texts())
