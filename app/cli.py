@@ -159,7 +159,8 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_UNUSABLE if code == EXIT_UNUSABLE else EXIT_OK
     from app.gui import run
 
-    return run(path, screenshot=ns.screenshot, size=ns.size)
+    # No file: the window opens an unsaved copy of the bundled cell, so Save asks where to.
+    return run(ns.cell, screenshot=ns.screenshot, size=ns.size)
 
 
 if __name__ == "__main__":  # pragma: no cover
