@@ -51,10 +51,13 @@ class Changes:
     @staticmethod
     def between(old: Cell, new: Cell) -> Changes:
         def diff(a: tuple, b: tuple) -> tuple[frozenset[str], bool]:
+            if a is b:  # edits share untouched tuples: the common case during a drag
+                return frozenset(), False
             ida = [x.id for x in a]
             idb = [x.id for x in b]
             old_by = dict(zip(ida, a))
-            changed = {x.id for x in b if old_by.get(x.id) != x}
+            # Identity first: unchanged items are the very same objects.
+            changed = {x.id for x in b if old_by.get(x.id) is not x and old_by.get(x.id) != x}
             changed |= set(ida) - set(idb)
             return frozenset(changed), ida != idb
 
