@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QEvent, QObject, QPoint, QPointF, Qt, QTimer, Signal
-from PySide6.QtGui import QAction, QActionGroup, QCursor, QPainterPath, QPen
+from PySide6.QtGui import QAction, QActionGroup, QBrush, QCursor, QPainterPath, QPen
 from PySide6.QtWidgets import (
     QFrame,
     QGraphicsItem,
@@ -28,6 +28,8 @@ from PySide6.QtWidgets import (
 
 from app import style
 from app.document import Changes, Document
+from app.panels.moves import SHARED
+from kinematics.bodies import BodyDataError, arm_bodies
 from kinematics.cell import FIXTURE_KINDS, Arm, Cell
 from kinematics.evaluate import ArmEvaluation, evaluate_cell_arm
 from kinematics.fk import joint_points
@@ -35,6 +37,17 @@ from kinematics.ik import ELBOWS, REASONS, Status
 from kinematics.regions import arm_regions
 
 from . import dialogs, edits
+from .clearance import (
+    CLEARANCE_OVERLAYS,
+    CONTACT_SYMBOL,
+    OVERLAY_TITLES,
+    ClearanceOverlays,
+    CollisionMarks,
+    NoteLayer,
+    fixture_near,
+    hit_label,
+    reach_bound,
+)
 from .items import (
     ArmItem,
     FixtureItem,
@@ -50,7 +63,15 @@ from .items import (
 )
 from .legend import LegendEntry, LegendWidget
 from .picking import Hit, pick, pick_target
-from .qtstyle import ELBOW_COLOURS, OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look, mixed
+from .qtstyle import (
+    ELBOW_COLOURS,
+    OVERLAY_LOOKS,
+    PATTERNS,
+    colour,
+    cosmetic_pen,
+    fixture_look,
+    mixed,
+)
 from .snapping import (
     Anchors,
     SnapResult,
@@ -63,7 +84,7 @@ from .snapping import (
     snap_point,
 )
 
-__all__ = ["CellCanvas", "OVERLAY_KEYS"]
+__all__ = ["CellCanvas", "OVERLAY_KEYS", "CLEARANCE_OVERLAYS"]
 
 #: Overlay kinds, in drawing order (each has an action "overlay.<kind>").
 OVERLAY_KEYS = ("annulus", "positive", "negative", "both", "comfort")
@@ -283,6 +304,14 @@ class CellCanvas(QWidget):
             self.plot, self.vb, (self.plot.getAxis("bottom"), self.plot.getAxis("left"))
         )
 
+        self._collisions = CollisionMarks(self)
+        self._clearance = ClearanceOverlays(self, SHARED)
+        self._notes = NoteLayer(self)
+        self.vb.sigRangeChanged.connect(lambda *_a: self._notes.layout())
+        self._last_cell = document.cell
+        self._bounds: dict[str, tuple[Arm, float]] = {}
+        self._notes_retry = False
+
         self._actions: dict[str, QAction] = {}
         self._build_actions()
 
@@ -446,9 +475,37 @@ class CellCanvas(QWidget):
             padding=0.0,
         )
 
+    def zoom_to_targets(self, target_ids) -> None:
+        """Show several targets together (the two ends of a move), with room around them."""
+        cell = self.document.cell
+        ts = [t for t in cell.targets if t.id in set(target_ids)]
+        if not ts:
+            return
+        if len(ts) == 1:
+            self.zoom_to(ts[0].id)
+            return
+        xs, ys = [t.x for t in ts], [t.y for t in ts]
+        span = max(max(xs) - min(xs), max(ys) - min(ys))
+        pad = 0.35 * span + 1e-9
+        self.vb.setRange(
+            xRange=(min(xs) - pad, max(xs) + pad),
+            yRange=(min(ys) - pad, max(ys) + pad),
+            padding=0.0,
+        )
+
     def evaluation(self, arm_id: str) -> ArmEvaluation:
         """The canvas's current evaluation of one arm (re-computed for changed arms only)."""
         return self._evals[arm_id]
+
+    @property
+    def collision_marks(self) -> CollisionMarks:
+        """Colliding bodies, contact marks and hit fixtures of the shown ghost poses."""
+        return self._collisions
+
+    @property
+    def clearance_overlays(self) -> ClearanceOverlays:
+        """Swept areas, spaces, shared zones and targets, fixtures passed over."""
+        return self._clearance
 
     def world_to_viewport(self, x: float, y: float) -> QPoint:
         """Viewport pixel of a world point (for tests and tools placing the pointer)."""
@@ -464,8 +521,10 @@ class CellCanvas(QWidget):
         """The widget that receives the canvas's mouse events."""
         return self.plot.viewport()
 
-    def overlay_items(self, key: str) -> list[QGraphicsPathItem]:
+    def overlay_items(self, key: str) -> list[QGraphicsItem]:
         """Scene items currently drawn for one overlay kind (all arms)."""
+        if key in CLEARANCE_OVERLAYS:
+            return self._clearance.items(key)
         return [it for (aid, k), it in self._overlay_items.items() if k == key]
 
     def measurement(self) -> tuple[float, float] | None:
@@ -530,6 +589,12 @@ class CellCanvas(QWidget):
             act = self._action(f"overlay.{key}", text, on)
             act.setToolTip(tip)
             act.toggled.connect(lambda _on: self._refresh_overlays())
+            act.toggled.connect(lambda _on: self._refresh_legend())
+        for key in CLEARANCE_OVERLAYS:
+            text, tip, on = OVERLAY_TITLES[key]
+            act = self._action(f"overlay.{key}", text, on)
+            act.setToolTip(tip)
+            act.toggled.connect(lambda _on: self._refresh_clearance())
             act.toggled.connect(lambda _on: self._refresh_legend())
         ghosts = QActionGroup(self)
         ghosts.setExclusive(True)
@@ -620,12 +685,38 @@ class CellCanvas(QWidget):
             self._arm_items[a.id] = item
             self._update_arm_item(a.id)
         self._evals = {a.id: evaluate_cell_arm(cell, a) for a in cell.arms}
+        self._collisions.keep_arms(self._evals)
         self._refresh_targets()
         self._refresh_overlays()
-        self._refresh_ghosts()
+        self._refresh_ghosts(marks=False)  # _refresh_clearance below draws the hits
         self._shown_selection = {"\0"}  # new items: apply the selection afresh
         self._on_selection(self.document.selection.ids)
+        self._refresh_clearance(live=self.document.previewing)
         self._refresh_legend()
+        self._last_cell = cell
+
+    def _reach_of(self, arm: Arm) -> float:
+        """Largest distance from the base any body of the arm reaches (cached per arm)."""
+        cached = self._bounds.get(arm.id)
+        if cached is None or cached[0] != arm:
+            try:
+                bound = reach_bound(arm_bodies(arm))
+            except BodyDataError:
+                bound = math.inf
+            cached = (arm, bound)
+            self._bounds[arm.id] = cached
+        return cached[1]
+
+    def _arms_near_fixtures(self, fixture_ids, old: Cell, new: Cell) -> set[str]:
+        """Arms a change of these fixtures can affect: a body could reach the old or the
+        new outline (moving a fixture away frees poses, moving it in blocks them)."""
+        outlines = [f.outline for c in (old, new) for f in c.fixtures if f.id in fixture_ids]
+        out = set()
+        for arm in new.arms:
+            bound = self._reach_of(arm)
+            if any(fixture_near(arm, bound, o) for o in outlines):
+                out.add(arm.id)
+        return out
 
     def _base_radius(self, arm: Arm) -> float:
         # Footprint: the first link's radius when given, else a tenth of the first link.
@@ -646,14 +737,17 @@ class CellCanvas(QWidget):
         if not self._draft:
             self._draft = True
             self.plot.setAntialiasing(False)
+            self._collisions.set_draft(True)
 
     def _end_draft(self) -> None:
         self._idle.stop()
         if self._draft:
             self._draft = False
             self.plot.setAntialiasing(True)
+            self._collisions.set_draft(False)
             self._refresh_targets()  # amounts back in the failure labels
             self._labels.relayout()  # and a tidy layout after incremental updates
+            self._refresh_clearance()  # swept areas, operating spaces, zones: the pause came
             self.plot.viewport().update()
 
     def _on_cell_changed(self, changes: Changes) -> None:
@@ -665,6 +759,7 @@ class CellCanvas(QWidget):
             self._rebuild()
             return
         cell = self.document.cell
+        old, self._last_cell = self._last_cell, cell
         kinds_changed = False
         for fid in changes.fixtures:
             f = next(f for f in cell.fixtures if f.id == fid)
@@ -676,10 +771,12 @@ class CellCanvas(QWidget):
         if kinds_changed:
             self._refresh_legend()
         changed_arms = set(changes.arms)
-        if changes.fixtures or changes.other:
-            # Fixtures block arms and the clearance margin and sequences live in the cell:
-            # every arm's verdict may change.
+        if changes.other:
+            # The clearance margin and the sequences live in the cell: every arm may change.
             changed_arms |= {a.id for a in cell.arms}
+        elif changes.fixtures:
+            # Fixtures block the arms whose bodies can reach their old or new outline.
+            changed_arms |= self._arms_near_fixtures(changes.fixtures, old, cell)
         if changes.targets:
             by_id = {t.id: t for t in cell.targets}
             for tid in changes.targets:
@@ -696,12 +793,14 @@ class CellCanvas(QWidget):
                 self._evals[aid] = evaluate_cell_arm(cell, cell.arm(aid))
         if changed_arms or changes.targets:
             self._refresh_targets()
-            self._refresh_ghosts(changed_arms)
+            self._refresh_ghosts(changed_arms, marks=False)  # _refresh_clearance below
             self._on_selection(self.document.selection.ids)
         if changes.arms:
             self._refresh_overlays(changes.arms)
             if any(cell.arm(a).name != self._arm_items[a].name for a in changes.arms):
                 self._refresh_legend()
+        if changes:
+            self._refresh_clearance(live=self.document.previewing)
 
     def _refresh_targets(self) -> None:
         """Markers and labels per arm; unchanged arms keep their drawn images."""
@@ -783,7 +882,11 @@ class CellCanvas(QWidget):
                 elif st in (Status.Q1_LIMIT, Status.Q2_LIMIT) and math.isfinite(lm[i]):
                     out[i] = f"{plain[st]} by {abs(float(lm[i])):.1f}°"
                 elif st is Status.COLLISION:
-                    out[i] = f"{style.status_style(st).glyph} {ev.reason(i)}"  # names the fixture
+                    # Names the fixture and the body: "collides with Column C4 (link 1)".
+                    out[i] = f"{style.status_style(st).glyph} {ev.reason(i)}"
+                    body = self._collision_body(ev, i)
+                    if body:
+                        out[i] += f" ({body})"
         self._reason_cache[ev.arm.id] = (ev, out, amounts)
         return out
 
@@ -880,7 +983,7 @@ class CellCanvas(QWidget):
         pen.setColor(mixed(ELBOW_COLOURS[elbow], amount))
         return pen
 
-    def _refresh_ghosts(self, arm_ids=None) -> None:
+    def _refresh_ghosts(self, arm_ids=None, marks: bool = True) -> None:
         cell = self.document.cell
         present = {a.id for a in cell.arms}
         for k in [k for k in self._ghost_items if k[0] not in present]:
@@ -907,12 +1010,17 @@ class CellCanvas(QWidget):
             allowed = np.asarray(ik.allowed, dtype=bool)
             single = np.asarray(ik.singular, dtype=bool)
             q = ik.q_deg
+            # A target that fails only on collisions shows its colliding poses (with the
+            # colliding bodies hatched), so the designer sees where it hits.
+            hit_only = show & (np.asarray(ev.status) == int(Status.COLLISION))
+            hits = np.asarray(ik.ok, dtype=bool) & _collides(ev)
             for c in (0, 1):
                 masks = {
                     "chosen": feasible & (chosen == c),
                     "alternative": feasible & (chosen != c) & works[:, c] & ~single,
                     # Only configurations the elbow setting allows: an excluded one is no option.
-                    "blocked": feasible & (chosen != c) & allowed[:, c] & ~works[:, c] & ~single,
+                    "blocked": (feasible & (chosen != c) & allowed[:, c] & ~works[:, c] & ~single)
+                    | (hit_only & hits[:, c] & ~(single & (c == 1))),
                 }
                 need = np.zeros(n, dtype=bool)
                 for m in masks.values():
@@ -926,6 +1034,64 @@ class CellCanvas(QWidget):
                 for role, m in masks.items():
                     item = self._ghost_item(arm.id, c, role)
                     item.setPath(polylines_path(pts[m]) if m.any() else QPainterPath())
+            self._collisions.update_arm(ev, show)
+        if marks:
+            self._apply_hits()
+
+    def _apply_hits(self, live: bool = False) -> None:
+        """Hit fixtures (thick dashed edge, label) and contact marks of ghosts and moves."""
+        cell = self.document.cell
+        hits = self._collisions.hits()
+        moves = self._clearance.move_hits
+        texts = {
+            fid: hit_label(cell, hits.get(fid, []), moves.get(fid, []))
+            for fid in set(hits) | set(moves)
+        }
+        notes = self._collisions.label_fixtures(cell, self._fixture_items, texts)
+        self._notes.set(notes + self._clearance.notes, relayout=not live)
+        self._collisions.redraw_contacts(self._clearance.move_contacts)
+
+    def note_obstacles(self) -> list[tuple[float, float, float, float]]:
+        """Viewport pixel boxes notes should keep clear of: target markers and labels."""
+        out: list[tuple[float, float, float, float]] = []
+        xy = self._target_xy
+        if len(xy):
+            # No rotation and a locked aspect: two points give the whole mapping.
+            o, e = self.world_to_viewport(0.0, 0.0), self.world_to_viewport(1000.0, 1000.0)
+            sx, sy = (e.x() - o.x()) / 1000.0, (e.y() - o.y()) / 1000.0
+            px, py = o.x() + sx * xy[:, 0], o.y() + sy * xy[:, 1]
+            h = 9.0
+            out += [(x - h, y - h, x + h, y + h) for x, y in zip(px.tolist(), py.tolist())]
+        placed = self._labels.placed()
+        out += [(x, y, x + w, y + h) for x, y, w, h, *_rest in placed]
+        for item in self._arm_items.values():
+            # The base and its name (drawn on either side of the base): a generous box.
+            c = self.world_to_viewport(item.x, item.y)
+            half = 30.0 + 4.0 * len(item.name)
+            out.append((c.x() - half, c.y() - 22.0, c.x() + half, c.y() + 22.0))
+        if len(xy) and not placed and not self._notes_retry:
+            # Target labels are laid out when painted: place the notes again after that.
+            self._notes_retry = True
+            QTimer.singleShot(50, self._notes.layout)
+        return out
+
+    def _refresh_clearance(self, live: bool = False) -> None:
+        """The clearance overlays; a drag step (``live``) leaves out what waits for a pause."""
+        enabled = {k for k in CLEARANCE_OVERLAYS if self._actions[f"overlay.{k}"].isChecked()}
+        before = dict(self._clearance.sources)
+        self._clearance.refresh(self.document.cell, self._evals, enabled, live)
+        self._apply_hits(live)
+        if self._clearance.sources != before:
+            self._refresh_legend()
+
+    @staticmethod
+    def _collision_body(ev: ArmEvaluation, i: int) -> str:
+        """The body that hits, in the configuration that comes closest ("link 1")."""
+        cands = [k for k in (0, 1) if bool(ev.ik.ok[i, k]) and bool(_collides(ev)[i, k])]
+        if not cands:
+            return ""
+        k = max(cands, key=lambda c: float(ev.clearance[i, c]))
+        return ev.blocked_body(i, k) or ""
 
     # ------------------------------------------------------------ selection
 
@@ -965,6 +1131,31 @@ class CellCanvas(QWidget):
                 pen = self._ghost_pen(name, role)
                 pen.setWidthF(1.5)  # legend samples are tiny; a little heavier reads better
                 e.append(LegendEntry("line", f"{name} elbow, {words}", pen=pen))
+        if cell.fixtures:
+            e.append(LegendEntry("header", "Collisions"))
+            e.append(
+                LegendEntry(
+                    "area",
+                    "colliding body (true size, hatched)",
+                    pen=cosmetic_pen(style.INK, 1.2),
+                    brush=QBrush(colour(style.PALETTE["ember"], 0.9), PATTERNS["cross"]),
+                )
+            )
+            e.append(
+                LegendEntry(
+                    "symbol",
+                    "contact point (circled cross)",
+                    symbol=CONTACT_SYMBOL,
+                    colour=style.PALETTE["lemon"],
+                )
+            )
+            e.append(
+                LegendEntry(
+                    "line",
+                    "fixture hit (thick dashed edge, labelled)",
+                    pen=cosmetic_pen(style.PALETTE["ember"], 3.0, "dash"),
+                )
+            )
         e.append(LegendEntry("header", "Arm bases"))
         for i, a in enumerate(cell.arms):
             e.append(LegendEntry("base", f"{a.name} (drag ○ to turn)", colour=style.arm_colour(i)))
@@ -974,6 +1165,8 @@ class CellCanvas(QWidget):
             for k in shown:
                 look = OVERLAY_LOOKS[k]
                 e.append(LegendEntry("area", look.legend, pen=QPen(look.pen), brush=look.brush))
+        enabled = {k for k in CLEARANCE_OVERLAYS if self._actions[f"overlay.{k}"].isChecked()}
+        e += self._clearance.legend(cell, enabled)
         kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
         if kinds:
             e.append(LegendEntry("header", "Fixtures"))
@@ -1351,12 +1544,15 @@ class CellCanvas(QWidget):
             if int(ev.chosen[i]) == c:
                 mark = "chosen"
             elif hit is not None:
-                mark = f"collides with {hit.name}"
+                body = ev.blocked_body(i, c)
+                mark = f"collides with {hit.name}" + (f" ({body})" if body else "")
             else:
                 mark = "ok" if bool(ik.ok[i, c]) and not _collides(ev)[i, c] else "not usable"
+            gap = float(ev.clearance[i, c]) if ev.clearance.shape == ik.ok.shape else math.inf
+            clear = f", clearance {self._fmt(gap)} {u}" if math.isfinite(gap) else ""
             lines.append(
                 f"{name} elbow: q1 {q[0]:.1f}°, q2 {q[1]:.1f}° "
-                f"(margin {float(ik.limit_margin_deg[i, c]):.1f}°) — {mark}"
+                f"(margin {float(ik.limit_margin_deg[i, c]):.1f}°{clear}) — {mark}"
             )
         lines.append(f"reach margin {float(ik.reach_margin[i]):.4g} {u}")
         return "\n".join(lines)

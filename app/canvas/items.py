@@ -121,6 +121,10 @@ class FixtureItem(QGraphicsPathItem):
         self._halo.setFlag(QGraphicsItem.GraphicsItemFlag.ItemStacksBehindParent, True)
         self._halo.setPen(cosmetic_pen(style.PALETTE["harbour"], 8.0, alpha=0.45))
         self._halo.setVisible(False)
+        # Hit by a colliding body: a thick dashed edge over the kind's own edge, painted
+        # with the item itself (one cached image per fixture, not two).
+        self._hit_pen = cosmetic_pen(style.PALETTE["ember"], 3.0, "dash")
+        self.hit = False
 
     def setCacheMode(self, mode, *args) -> None:  # noqa: N802 (Qt name)
         # The underlay and halo are child items: cache them the same way.
@@ -143,6 +147,25 @@ class FixtureItem(QGraphicsPathItem):
     def set_selected(self, on: bool) -> None:
         self.selected = on
         self._halo.setVisible(on)
+
+    def set_hit(self, on: bool) -> None:
+        """Mark the fixture as hit by a colliding body (thick dashed edge)."""
+        if on != self.hit:
+            self.hit = on
+            self.update()
+
+    def boundingRect(self) -> QRectF:  # noqa: N802 (Qt name)
+        # Room for the thick hit edge (cosmetic, so a little in world units is plenty).
+        r = super().boundingRect()
+        m = 0.02 * max(r.width(), r.height(), 1e-9)
+        return r.adjusted(-m, -m, m, m)
+
+    def paint(self, painter, option, widget=None) -> None:
+        super().paint(painter, option, widget)
+        if self.hit:
+            painter.setPen(self._hit_pen)
+            painter.setBrush(Qt.BrushStyle.NoBrush)
+            painter.drawPath(self.path())
 
 
 class ArmItem(pg.GraphicsObject):
@@ -346,7 +369,7 @@ class MarkersItem(_ImageLayer):
     Parameters
     ----------
     looks : mapping of status code to (symbol, fill colour)
-        pyqtgraph symbol names and hex colours.
+        pyqtgraph symbol names (or QPainterPath symbols in the unit box) and hex colours.
     """
 
     def __init__(self, looks: dict[int, tuple[str, str]], size: float = 2 * MARKER_HALF) -> None:

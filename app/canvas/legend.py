@@ -10,7 +10,7 @@ from dataclasses import dataclass
 
 from pyqtgraph.graphicsItems.ScatterPlotItem import drawSymbol
 from PySide6.QtCore import QPointF, QRectF, QSize, Qt
-from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPen
+from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 from PySide6.QtWidgets import QSizePolicy, QWidget
 
 from app import style
@@ -22,14 +22,15 @@ __all__ = ["LegendEntry", "LegendWidget"]
 class LegendEntry:
     """One legend row.
 
-    ``kind`` is "header", "symbol" (a scatter symbol name in ``symbol``),
+    ``kind`` is "header", "symbol" (a scatter symbol name or QPainterPath in ``symbol``;
+    an empty ``colour`` draws it unfilled),
     "line" (``pen``), "area" (``pen`` and ``brush``, optional ``under`` brush)
     or "base" (an arm base glyph in ``colour``).
     """
 
     kind: str
     text: str
-    symbol: str = ""
+    symbol: str | QPainterPath = ""
     colour: str = ""
     pen: QPen | None = None
     brush: QBrush | None = None
@@ -100,7 +101,12 @@ class LegendWidget(QWidget):
         p.save()
         if e.kind == "symbol":
             p.translate(r.center())
-            drawSymbol(p, e.symbol, 11, QPen(QColor(style.INK), 1.0 / 11), QBrush(QColor(e.colour)))
+            if e.colour:
+                brush, pen = QBrush(QColor(e.colour)), QPen(QColor(style.INK), 1.0 / 11)
+            else:  # an unfilled ring in the entry's pen colour
+                ink = e.pen.color() if e.pen is not None else QColor(style.INK)
+                brush, pen = QBrush(Qt.BrushStyle.NoBrush), QPen(ink, 2.0 / 11)
+            drawSymbol(p, e.symbol, 11, pen, brush)
         elif e.kind == "line" and e.pen is not None:
             p.setPen(e.pen)
             p.drawLine(QPointF(r.left(), r.center().y()), QPointF(r.right(), r.center().y()))

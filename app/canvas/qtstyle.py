@@ -31,6 +31,7 @@ _DASHES = {
     "dash": Qt.PenStyle.DashLine,
     "dot": Qt.PenStyle.DotLine,
     "dashdot": Qt.PenStyle.DashDotLine,
+    "dashdotdot": Qt.PenStyle.DashDotDotLine,
 }
 
 #: Fill pattern names from app.style mapped to Qt brush styles.
@@ -39,6 +40,7 @@ PATTERNS = {
     "hatch": Qt.BrushStyle.BDiagPattern,
     "fhatch": Qt.BrushStyle.FDiagPattern,
     "cross": Qt.BrushStyle.DiagCrossPattern,
+    "grid": Qt.BrushStyle.CrossPattern,
     "dense": Qt.BrushStyle.Dense5Pattern,
     "horizontal": Qt.BrushStyle.HorPattern,
     "vertical": Qt.BrushStyle.VerPattern,

@@ -779,7 +779,12 @@ def test_a_fixture_hit_turns_a_configuration_down_live(qtbot, canvas, rec):
     assert canvas.markers.count(int(Status.COLLISION)) == 1
     canvas.grab()
     assert _labels_of(canvas)["Shelf"].startswith("★ collides with ")
-    assert sum(it.path().elementCount() for it in canvas._ghost_items.values()) == 0
+    # A target that fails only on collisions shows where: both poses as ruled-out ghosts
+    # (base, elbow, tool each), nothing as chosen or as an option.
+    counts = {k: it.path().elementCount() for k, it in canvas._ghost_items.items()}
+    assert counts[("a", 0, "blocked")] == counts[("a", 1, "blocked")] == 3
+    assert sum(n for (_a, _c, role), n in counts.items() if role != "blocked") == 0
+    assert len(canvas.collision_marks.contacts()) == 2  # one contact mark per pose
     # Moving a column away (a fixture edit, no arm or target changed) frees the pose again.
     moved = replace(other, outline=tuple((x + 400.0, y) for x, y in other.outline))
     doc.edit("move post", replace(doc.cell, fixtures=(*doc.cell.fixtures[:-1], moved)))
