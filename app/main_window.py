@@ -138,6 +138,7 @@ class MainWindow(QMainWindow):
         self.undo_stack.canUndoChanged.connect(self._update_undo_texts)
         self.undo_stack.canRedoChanged.connect(self._update_undo_texts)
         self.problems.zoom_requested.connect(lambda tid: self.canvas.zoom_to(tid))
+        self.problems.zoom_targets_requested.connect(self.canvas.zoom_to_targets)
         self.problems.count_changed.connect(self._on_problem_count)
         self.target_table.source.refused.connect(
             lambda msg: self.statusBar().showMessage(msg, 8000)
@@ -333,7 +334,7 @@ class MainWindow(QMainWindow):
     def _show_summary(self) -> None:
         evaluation = self.document.evaluation
         total = len(evaluation.cell.targets)
-        bad = self.problems.count_of_problems
+        bad = self.problems.failing_targets  # moves are listed too; this counts targets
         text = f"{total} targets: {total - bad} ok, {bad} fail" if total else "No targets yet"
         self.hover_label.setText(text)
 

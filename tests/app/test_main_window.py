@@ -619,3 +619,42 @@ def test_mouse_drag_of_a_base_updates_table_and_problems_live_and_undoes_exactly
     assert table_status(win) == after_statuses
     qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, pos=win.canvas.world_to_viewport(0, 0))
     assert dumps_cell(win.document.cell) == dragged and win.undo_stack.count() == 1
+
+
+def test_a_colliding_move_in_the_problems_list_shows_both_targets(make_window, qtbot, monkeypatch):
+    from kinematics.cell import Fixture
+
+    win = make_window(REPO / "sample_cells" / "column_one_elbow.cell.json")
+    cell = win.document.cell
+    # A 4 m post across the path of pick -> nest (a straight line in joint space).
+    post = Fixture(
+        "post", "Post P1", "column", ((280, 330), (310, 330), (310, 360), (280, 360)), 4000
+    )
+    win.document.edit("Add post", replace(cell, fixtures=cell.fixtures + (post,)))
+    assert win.problems.problem_moves() == [("arm", "pick", "nest"), ("arm", "nest", "pick")]
+    # The dock counts every entry; the status bar counts failing targets only.
+    assert win.problems_dock.windowTitle() == "Problems (3)"
+    assert win.hover_label.text() == "3 targets: 2 ok, 1 fail"
+    shown: list[list[str]] = []
+    monkeypatch.setattr(win.canvas, "zoom_to_targets", shown.append)
+    # Connected at start-up, so reconnect to the patched method.
+    win.problems.zoom_targets_requested.disconnect()
+    win.problems.zoom_targets_requested.connect(win.canvas.zoom_to_targets)
+    item = win.problems.item(1)
+    assert item.text().startswith("★ move pick → nest — collides with Post P1")
+    rect = win.problems.visualItemRect(item)
+    qtbot.mouseClick(win.problems.viewport(), Qt.MouseButton.LeftButton, pos=rect.center())
+    assert win.document.selection.ids == ("pick", "nest")
+    assert shown == [["pick", "nest"]]
+    assert sorted(win.target_table.selected_ids()) == ["nest", "pick"]
+
+
+def test_zoom_to_targets_shows_both_ends_of_a_move(make_window):
+    win = make_window(REPO / "sample_cells" / "column_one_elbow.cell.json")
+    win.canvas.zoom_to_targets(["pick", "nest"])
+    (x0, x1), (y0, y1) = win.canvas.vb.viewRange()
+    for t in win.document.cell.targets:
+        if t.id in ("pick", "nest"):
+            assert x0 < t.x < x1 and y0 < t.y < y1
+    # Zoomed in to the pair, not the whole cell (the rear guard at y = -330 is out of view).
+    assert y0 > -330
