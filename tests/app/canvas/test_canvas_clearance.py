@@ -1,0 +1,344 @@
+"""Clearance on the canvas: colliding bodies, hit fixtures, the clearance overlays.
+
+Outside references: shapely (GEOS) as the reference library for whether a link capsule
+(its centre segment widened by the link radius) meets a fixture; the planar two-link
+forward kinematics x = a1 cos t1 + a2 cos(t1 + t2), y = a1 sin t1 + a2 sin(t1 + t2)
+(Spong, Hutchinson and Vidyasagar, "Robot Modeling and Control", planar elbow
+manipulator; from memory), written out here independently of the engine; and the
+README's 2.5-D rule (a fixture lower than the link underside less the margin is passed
+over) with the sample cells' own numbers.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+import shapely
+from PySide6.QtCore import QPoint, QPointF, Qt
+from PySide6.QtWidgets import QGraphicsItem
+
+from app.canvas import CellCanvas
+from app.canvas.clearance import CLEARANCE_OVERLAYS, place_notes
+from app.document import Document
+from kinematics.cellfile import load_cell
+from kinematics.ik import Status
+
+REPO = Path(__file__).resolve().parents[3]
+COLUMN = REPO / "sample_cells" / "column_one_elbow.cell.json"
+SHARED = REPO / "sample_cells" / "shared_zone_two_arm.cell.json"
+SAMPLES = sorted((REPO / "sample_cells").glob("*.cell.json"))
+
+pytestmark = pytest.mark.qt_log_ignore("propagateSizeHints")
+
+
+class Recorder:
+    """A document whose undo stack is a list."""
+
+    def __init__(self, cell) -> None:
+        self.doc = Document(cell)
+        self.pushed = []
+        self.doc.push = self._push
+
+    def _push(self, edit) -> None:
+        self.pushed.append(edit)
+        self.doc.apply(edit.after)
+
+
+def _canvas(qtbot, doc: Document, size=(1100, 800)) -> CellCanvas:
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+    c.resize(*size)
+    c.show()
+    qtbot.waitExposed(c)
+    c.zoom_to_fit()
+    return c
+
+
+def _vp(canvas, x, y) -> QPoint:
+    return canvas.world_to_viewport(x, y)
+
+
+def _scene_tags(canvas, prefix: str) -> list[str]:
+    tags = (QGraphicsItem.data(it, 0) for it in canvas.plot.scene().items())
+    return sorted(t for t in tags if isinstance(t, str) and t.startswith(prefix))
+
+
+def _labels_of(canvas) -> dict[str, str]:
+    return {name: reason for *_xy, name, reason, _lead in canvas._labels.placed()}
+
+
+def _pose(arm, q1: float, q2: float):
+    """Base, elbow and tool point by the planar two-link forward kinematics."""
+    t1 = math.radians(arm.heading_deg + q1)
+    t12 = t1 + math.radians(q2)
+    elbow = (arm.x + arm.a1 * math.cos(t1), arm.y + arm.a1 * math.sin(t1))
+    tool = (elbow[0] + arm.a2 * math.cos(t12), elbow[1] + arm.a2 * math.sin(t12))
+    return (arm.x, arm.y), elbow, tool
+
+
+def _links(arm, q1: float, q2: float) -> dict[str, shapely.Geometry]:
+    """The two link capsules, as shapely buffers of the centre segments."""
+    base, elbow, tool = _pose(arm, q1, q2)
+    r1, r2 = arm.link_radii
+    return {
+        "link 1": shapely.LineString([base, elbow]).buffer(r1),
+        "link 2": shapely.LineString([elbow, tool]).buffer(r2),
+    }
+
+
+def test_column_cell_flags_the_negative_pose_link_1_at_the_nest(qtbot):
+    doc = Document(load_cell(COLUMN))
+    c = _canvas(qtbot, doc)
+    cell = doc.cell
+    arm = cell.arms[0]
+    column = next(f for f in cell.fixtures if f.id == "column")
+    ev = c.evaluation("arm")
+    i = ev.index("nest")
+    q_neg = ev.ik.q_deg[i, 1]
+    # Reference: shapely finds the negative pose's link 1 in the column, the positive clear.
+    col = shapely.Polygon(column.outline)
+    assert _links(arm, *q_neg)["link 1"].intersects(col)
+    assert not any(g.intersects(col) for g in _links(arm, *ev.ik.q_deg[i, 0]).values())
+    assert int(ev.chosen[i]) == 0 and bool(ev.collides[i, 1])
+    assert ev.blocked_by(i, 1).name == "Building column C4" and ev.blocked_body(i, 1) == "link 1"
+    # The colliding body is drawn at its true size: its path covers the part of link 1's
+    # capsule inside the column, and a contact mark sits in or on the column.
+    overlap = _links(arm, *q_neg)["link 1"].intersection(col)
+    mid = overlap.representative_point()
+    path = c.collision_marks.body_items()["arm"].path()
+    assert path.contains(QPointF(mid.x, mid.y))
+    contacts = c.collision_marks.contacts()
+    assert any(col.buffer(1e-6).contains(shapely.Point(p)) for p in contacts)
+    # The column is marked hit (not by colour alone: a dashed edge and a label naming the arm
+    # and the body).
+    assert c._fixture_items["column"].hit
+    assert not c._fixture_items["nest_table"].hit
+    (label,) = c.collision_marks.label_texts().values()
+    assert label.startswith("hit by Nest loader link 1")
+    assert _scene_tags(c, "collision.label:") == ["collision.label:column"]
+    # The failing target says what it hits.
+    c.grab()
+    assert _labels_of(c)["Spare nest"].startswith("★ collides with Building column C4 (")
+    assert "collides with Building column C4 (link 1)" in c.target_tooltip("nest")
+    legend = c.legend.texts()
+    assert "contact point (circled cross)" in legend
+    assert "fixture hit (thick dashed edge, labelled)" in legend
+
+
+def test_dragging_the_column_onto_a_clear_targets_links_fails_it_live_and_esc_restores(qtbot):
+    rec = Recorder(load_cell(COLUMN))
+    doc = rec.doc
+    c = _canvas(qtbot, doc)
+    cell0 = doc.cell
+    arm = cell0.arms[0]
+    ev = c.evaluation("arm")
+    i = ev.index("pick")
+    assert int(ev.status[i]) == int(Status.OK) and not ev.collides[i].any()
+    # Aim the column's centre at 80 % along link 2 of the chosen pose.
+    q = ev.ik.q_deg[i, int(ev.chosen[i])]
+    _base, elbow, tool = _pose(arm, *q)
+    aim = (elbow[0] + 0.8 * (tool[0] - elbow[0]), elbow[1] + 0.8 * (tool[1] - elbow[1]))
+    column = next(f for f in cell0.fixtures if f.id == "column")
+    start = shapely.Polygon(column.outline).centroid
+    vp = c.viewport()
+    a, b = _vp(c, start.x, start.y), _vp(c, *aim)
+    qtbot.mousePress(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, a)
+    for k in range(1, 9):
+        f = k / 8
+        qtbot.mouseMove(
+            vp, QPoint(round(a.x() + f * (b.x() - a.x())), round(a.y() + f * (b.y() - a.y())))
+        )
+    assert doc.previewing
+    moved = next(f for f in doc.cell.fixtures if f.id == "column")
+    col = shapely.Polygon(moved.outline)
+    # Reference: shapely puts link 2 of both configurations into the moved column.
+    for k in (0, 1):
+        assert _links(arm, *ev.ik.q_deg[i, k])["link 2"].intersects(col)
+    live = c.evaluation("arm")
+    assert int(live.status[i]) == int(Status.COLLISION)
+    assert live.reason(i) == "collides with Building column C4"
+    assert c.markers.count(int(Status.COLLISION)) >= 1
+    assert c._fixture_items["column"].hit
+    assert np.array_equal(live.status, doc.evaluation.arms["arm"].status)
+    # Esc: the document is exactly as before and the target clear again.
+    qtbot.keyClick(c.plot, Qt.Key.Key_Escape)
+    assert doc.cell is cell0 and not doc.previewing
+    back = c.evaluation("arm")
+    assert int(back.status[i]) == int(Status.OK)
+    assert rec.pushed == []
+
+
+@pytest.mark.parametrize("key", CLEARANCE_OVERLAYS)
+def test_each_clearance_overlay_toggle_adds_and_removes_its_items(qtbot, key):
+    c = _canvas(qtbot, Document(load_cell(SHARED)))
+    c.actions()["overlay.passes_over"]  # every kind has an action
+    act = c.actions()[f"overlay.{key}"]
+    act.setChecked(False)
+    assert c.overlay_items(key) == []
+    assert _scene_tags(c, f"overlay.{key}:") == [] or key == "shared_targets"
+    act.setChecked(True)
+    items = c.overlay_items(key)
+    assert items and all(it.isVisible() for it in items)
+    act.setChecked(False)
+    assert c.overlay_items(key) == []
+
+
+def test_spaces_are_computed_only_while_shown_and_follow_a_base_move(qtbot):
+    rec = Recorder(load_cell(COLUMN))
+    doc = rec.doc
+    c = _canvas(qtbot, doc)
+    over = c.clearance_overlays
+    assert over._spaces == {}  # nothing computed while the overlays are off
+    c.actions()["overlay.space.restricted"].setChecked(True)
+    assert list(over._spaces) == [("arm", "space.restricted")]
+    space = over._spaces[("arm", "space.restricted")]
+    (item,) = c.overlay_items("space.restricted")
+    arm = doc.cell.arms[0]
+    r0 = item.mapRectToParent(item.path().boundingRect())
+    # Reference (annulus law plus the bodies): with q1 over +-140 the space reaches out to
+    # a1 + a2 + the tool's radius on the far side of the heading (+y here).
+    reach = arm.a1 + arm.a2 + 28.0
+    assert r0.bottom() == pytest.approx(arm.y + reach, abs=0.01 * reach)
+    # A base drag step moves the drawn space rigidly: no recomputation.
+    doc.preview(replace(doc.cell, arms=(replace(arm, x=arm.x + 120.0, y=arm.y - 40.0),)))
+    assert over._spaces[("arm", "space.restricted")] is space
+    r1 = item.mapRectToParent(item.path().boundingRect())
+    assert (r1.center().x() - r0.center().x(), r1.center().y() - r0.center().y()) == pytest.approx(
+        (120.0, -40.0), abs=1e-6
+    )
+    doc.cancel_preview()
+    # Where the maximum space comes from is in the legend (no mechanical range in this cell).
+    c.actions()["overlay.space.maximum"].setChecked(True)
+    assert any(t.startswith("maximum space (from the joint limits") for t in c.legend.texts())
+    mech = replace(arm, extra={**arm.extra, "mechanical_limits_deg": [[-170, 170], [-150, 150]]})
+    doc.apply(replace(doc.cell, arms=(mech,)))
+    assert any(t.startswith("maximum space (from the mechanical range") for t in c.legend.texts())
+
+
+def test_swept_areas_wait_for_a_pause_and_mark_a_colliding_move(qtbot):
+    rec = Recorder(load_cell(COLUMN))
+    doc = rec.doc
+    c = _canvas(qtbot, doc)
+    c.actions()["overlay.swept"].setChecked(True)
+    items = c.overlay_items("swept")
+    assert len(items) == 2  # pick -> nest and back
+    # The swept area covers both ends of the move (the tool passes over its targets).
+    for it in items:
+        for tid in ("pick", "nest"):
+            t = next(t for t in doc.cell.targets if t.id == tid)
+            assert it.path().contains(QPointF(t.x, t.y))
+    # A base drag step changes every joint path: the stale areas hide until the pause.
+    arm = doc.cell.arms[0]
+    doc.preview(replace(doc.cell, arms=(replace(arm, x=arm.x + 30.0),)))
+    assert c.overlay_items("swept") == []
+    qtbot.waitUntil(lambda: len(c.overlay_items("swept")) == 2, timeout=3000)
+    doc.cancel_preview()
+    # A post across the path: the move is drawn as colliding, with a note and a contact.
+    from kinematics.cell import Fixture
+
+    post = Fixture(
+        "post", "Post P1", "column", ((280, 330), (310, 330), (310, 360), (280, 360)), 4000.0
+    )
+    doc.edit("post", replace(doc.cell, fixtures=doc.cell.fixtures + (post,)))
+    looks = sorted(it.data(1) for it in c.overlay_items("swept") if it.data(1))
+    assert looks == ["swept.collides", "swept.collides"]
+    notes = c._notes.texts("overlay.swept.note")
+    assert notes and all("collides with Post P1" in t for t in notes)
+    assert c._fixture_items["post"].hit
+    assert any("on move pick → nest" in t for t in c.collision_marks.label_texts().values())
+
+
+def test_shared_zone_and_targets_several_arms_reach(qtbot):
+    doc = Document(load_cell(SHARED))
+    c = _canvas(qtbot, doc)
+    c.actions()["overlay.shared"].setChecked(True)
+    zones = {it.data(0): it for it in c.overlay_items("shared") if hasattr(it, "path")}
+    assert "overlay.shared:left+right:restricted" in zones
+    restricted = zones["overlay.shared:left+right:restricted"].path()
+    # Reference (annulus law): the handover point is 475 from both bases, inside both reach
+    # circles (350 + 250 = 600); the left base is 950 from the right base, beyond its reach.
+    assert restricted.contains(QPointF(475.0, 0.0))
+    assert not restricted.contains(QPointF(0.0, 0.0))
+    notes = c._notes.texts("overlay.shared.note")
+    assert notes and all(t.startswith("shared zone: interlock needed") for t in notes)
+    assert "shared zone: interlock needed (grid)" in c.legend.texts()
+    # Targets both arms reach (on by default) are ringed: the two handover targets.
+    assert set(c.clearance_overlays.shared_target_ids()) == {"handover_put", "handover_take"}
+    for t in doc.cell.targets:
+        if t.id.startswith("handover"):
+            for a in doc.cell.arms:
+                assert math.hypot(t.x - a.x, t.y - a.y) <= a.a1 + a.a2
+
+
+def test_fixtures_passed_over_follow_the_height_rule(qtbot):
+    doc = Document(load_cell(COLUMN))
+    c = _canvas(qtbot, doc)
+    c.actions()["overlay.passes_over"].setChecked(True)
+    tags = _scene_tags(c, "overlay.passes_over:")
+    # Link underside 800, margin 0: the 720 table and the 760 conveyor are passed over; the
+    # 4000 column and the 1800 guard block (README, 2.5-D rule).
+    arm = doc.cell.arms[0]
+    expected = sorted(
+        f"overlay.passes_over:{f.id}"
+        for f in doc.cell.fixtures
+        if f.height is not None and f.height < arm.link_underside_height
+    )
+    assert tags == expected == ["overlay.passes_over:infeed", "overlay.passes_over:nest_table"]
+    notes = c._notes.texts("overlay.passes_over.note")
+    assert any("height 720 mm" in t and "underside 800" in t for t in notes)
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_canvas_clearance_verdicts_equal_the_documents_after_edits(qtbot, path):
+    rec = Recorder(load_cell(path))
+    doc = rec.doc
+    c = CellCanvas(doc)
+    qtbot.addWidget(c)
+
+    def agree():
+        for aid, ev in doc.evaluation.arms.items():
+            mine = c.evaluation(aid)
+            assert mine.target_ids == ev.target_ids
+            for name in ("status", "chosen", "feasible", "collides", "clearance_fixture"):
+                assert np.array_equal(getattr(mine, name), getattr(ev, name)), name
+            assert np.array_equal(mine.clearance, ev.clearance, equal_nan=True)
+
+    agree()
+    cell = doc.cell
+    # Every fixture in turn slid onto the first target, as drag steps, then cancelled.
+    t = cell.targets[0]
+    for f in cell.fixtures:
+        cx, cy = shapely.Polygon(f.outline).centroid.coords[0]
+        moved = replace(f, outline=tuple((x + t.x - cx, y + t.y - cy) for x, y in f.outline))
+        doc.preview(
+            replace(doc.cell, fixtures=tuple(moved if g.id == f.id else g for g in cell.fixtures))
+        )
+        agree()
+    doc.cancel_preview()
+    agree()
+    arm = cell.arms[-1]
+    doc.edit(
+        "turn",
+        replace(
+            doc.cell, arms=(*doc.cell.arms[:-1], replace(arm, heading_deg=arm.heading_deg + 25.0))
+        ),
+    )
+    agree()
+    doc.edit("margin", replace(doc.cell, extra={**doc.cell.extra, "clearance_margin": 100.0}))
+    agree()
+
+
+def test_note_placement_keeps_clear_of_markers_and_each_other():
+    # Two notes on the same box: the first goes above, the second below; a marker above a
+    # third box pushes its note below.
+    spots = place_notes(
+        [(100, 100, 140, 120), (100, 100, 140, 120), (300, 100, 340, 120)],
+        [(60, 14), (60, 14), (60, 14)],
+        [(290, 70, 320, 98)],
+        (0, 0, 800, 600),
+    )
+    assert spots == [(100.0, 82.0), (100.0, 124.0), (300.0, 124.0)]
