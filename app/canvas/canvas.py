@@ -311,6 +311,7 @@ class CellCanvas(QWidget):
         self._last_cell = document.cell
         self._bounds: dict[str, tuple[Arm, float]] = {}
         self._notes_retry = False
+        self._hits_key: tuple | None = None
 
         self._actions: dict[str, QAction] = {}
         self._build_actions()
@@ -686,6 +687,7 @@ class CellCanvas(QWidget):
             self._update_arm_item(a.id)
         self._evals = {a.id: evaluate_cell_arm(cell, a) for a in cell.arms}
         self._collisions.keep_arms(self._evals)
+        self._hits_key = None  # new fixture items: mark the hit ones afresh
         self._refresh_targets()
         self._refresh_overlays()
         self._refresh_ghosts(marks=False)  # _refresh_clearance below draws the hits
@@ -745,6 +747,7 @@ class CellCanvas(QWidget):
             self._draft = False
             self.plot.setAntialiasing(True)
             self._collisions.set_draft(False)
+            self._refresh_ghosts(marks=False)  # hatched bodies and contact marks again
             self._refresh_targets()  # amounts back in the failure labels
             self._labels.relayout()  # and a tidy layout after incremental updates
             self._refresh_clearance()  # swept areas, operating spaces, zones: the pause came
@@ -1043,12 +1046,15 @@ class CellCanvas(QWidget):
         cell = self.document.cell
         hits = self._collisions.hits()
         moves = self._clearance.move_hits
-        texts = {
-            fid: hit_label(cell, hits.get(fid, []), moves.get(fid, []))
-            for fid in set(hits) | set(moves)
-        }
-        notes = self._collisions.label_fixtures(cell, self._fixture_items, texts)
-        self._notes.set(notes + self._clearance.notes, relayout=not live)
+        key = (hits, moves, self._clearance.notes, cell.fixtures, [a.name for a in cell.arms])
+        if not (live and key == self._hits_key):  # drag steps mostly hit the same fixtures
+            self._hits_key = key
+            texts = {
+                fid: hit_label(cell, hits.get(fid, []), moves.get(fid, []))
+                for fid in set(hits) | set(moves)
+            }
+            notes = self._collisions.label_fixtures(cell, self._fixture_items, texts)
+            self._notes.set(notes + self._clearance.notes, relayout=not live)
         self._collisions.redraw_contacts(self._clearance.move_contacts)
 
     def note_obstacles(self) -> list[tuple[float, float, float, float]]:

@@ -27,8 +27,18 @@ from typing import Any
 import numpy as np
 import pyqtgraph as pg
 import shapely
-from PySide6.QtCore import QPointF, Qt
-from PySide6.QtGui import QBrush, QPainterPath, QPen, QTransform
+from PySide6.QtCore import QPointF, QRectF, Qt
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QImage,
+    QPainter,
+    QPainterPath,
+    QPen,
+    QTransform,
+)
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem
 
 from app import style
@@ -126,6 +136,7 @@ Z_SWEPT = 14.0
 Z_ZONE = 16.0
 Z_PASS = 17.0
 Z_HIT = 35.0  # colliding bodies above the ghost lines
+Z_HIT_EDGE = 11.0  # hit fixtures' dashed edges, just above the fixtures
 Z_MARK = 58.0  # contact marks above markers, below labels
 Z_NOTE = 62.0  # labels of overlays, above target labels
 
@@ -507,70 +518,136 @@ def place_notes(
     return out
 
 
+class _NotesItem(pg.GraphicsObject):
+    """All notes in one item: each a small image painted at pixel size at a world point."""
+
+    def __init__(self) -> None:
+        super().__init__()
+        self.placed: dict[tuple, tuple[QImage, float, float]] = {}  # key -> image, world x, y
+
+    def viewRangeChanged(self) -> None:
+        self.prepareGeometryChange()
+
+    def boundingRect(self) -> QRectF:
+        # Painted at pixel size around world points: claim the visible range.
+        vr = self.viewRect()
+        return QRectF(vr) if vr is not None else QRectF()
+
+    def paint(self, painter, option, widget=None) -> None:
+        if not self.placed:
+            return
+        tr = painter.transform()
+        painter.save()
+        painter.resetTransform()
+        for img, wx, wy in self.placed.values():
+            painter.drawImage(tr.map(QPointF(wx, wy)), img)
+        painter.restore()
+
+
 class NoteLayer:
-    """The notes of the clearance drawings: one text item each, laid out to avoid the
-    target markers and labels and each other, again whenever the view changes.
+    """The notes of the clearance drawings, laid out to avoid the target markers and
+    labels and each other, again whenever the view changes.
+
+    Each note is rendered once into a small image (dashed border in its edge colour,
+    paper-coloured ground); one scene item paints them all.
 
     Parameters
     ----------
     host : CellCanvas
-        Supplies ``_add``, ``_remove``, ``vb``, ``world_to_viewport``,
-        ``viewport_to_world`` and ``note_obstacles()`` (pixel boxes to keep clear).
+        Supplies ``_add``, ``world_to_viewport``, ``viewport_to_world``, ``plot`` and
+        ``note_obstacles()`` (pixel boxes to keep clear).
     """
+
+    PAD = 3.0
 
     def __init__(self, host: Any) -> None:
         self._host = host
-        self._items: dict[tuple, pg.TextItem] = {}
         self._notes: dict[tuple, Note] = {}
+        self._images: dict[tuple[str, str, float], QImage] = {}
         self._placed: dict[tuple, tuple[float, float, float, float]] = {}  # pixel rects
+        self._font = QFont()
+        self._font.setPointSizeF(8.0)
+        self._fm = QFontMetricsF(self._font)
+        self.item = _NotesItem()
+        self.item.setData(0, "notes")
+        host._add(self.item, Z_NOTE)
+
+    def _image(self, n: Note) -> QImage:
+        dpr = self._host.devicePixelRatioF() or 1.0
+        key = (n.text, n.edge, dpr)
+        img = self._images.get(key)
+        if img is not None:
+            return img
+        lines = n.text.split("\n")
+        w = max(self._fm.horizontalAdvance(t) for t in lines) + 2 * self.PAD
+        h = self._fm.height() * len(lines) + 2 * self.PAD
+        img = QImage(
+            int(math.ceil(w * dpr)),
+            int(math.ceil(h * dpr)),
+            QImage.Format.Format_ARGB32_Premultiplied,
+        )
+        img.setDevicePixelRatio(dpr)
+        img.fill(0)
+        p = QPainter(img)
+        p.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        p.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
+        p.fillRect(QRectF(0, 0, w, h), colour(style.PAPER, 0.92))
+        pen = QPen(QColor(n.edge), 1.0, Qt.PenStyle.DashLine)
+        p.setPen(pen)
+        p.drawRect(QRectF(0.5, 0.5, w - 1, h - 1))
+        p.setPen(QColor(style.INK))
+        p.setFont(self._font)
+        for k, t in enumerate(lines):
+            p.drawText(QPointF(self.PAD, self.PAD + k * self._fm.height() + self._fm.ascent()), t)
+        p.end()
+        if len(self._images) > 500:
+            self._images.clear()
+        self._images[key] = img
+        return img
 
     def set(self, notes: list[Note], relayout: bool = True) -> None:
-        """Show exactly these notes; laid out again when they changed or ``relayout``."""
+        """Show exactly these notes; laid out again when ``relayout`` (else only new ones)."""
         wanted = {n.key: n for n in notes}
-        if not relayout and wanted.keys() == self._notes.keys():
-            # A drag step with the same notes: new texts, places kept until the pause.
-            for k, n in wanted.items():
-                if self._notes[k].text != n.text:
-                    self._items[k].setText(n.text)
-                self._notes[k] = n
-            return
-        for k in [k for k in self._items if k not in wanted]:
-            self._host._remove(self._items.pop(k))
-            self._notes.pop(k, None)
+        for k in [k for k in self._notes if k not in wanted]:
+            del self._notes[k]
             self._placed.pop(k, None)
-        new = [n.key for n in notes if n.key not in self._items]
-        for n in notes:
-            item = self._items.get(n.key)
-            old = self._notes.get(n.key)
-            if item is None:
-                item = pg.TextItem(
-                    n.text,
-                    color=style.INK,
-                    anchor=(0.0, 0.0),
-                    fill=pg.mkBrush(colour(style.PAPER, 0.9)),
-                    border=cosmetic_pen(n.edge, 1.0, "dash"),
-                )
-                self._host._add(item, Z_NOTE, cache=True)  # still between changes: an image
-                self._items[n.key] = item
-            elif old is not None and old.text != n.text:
-                item.setText(n.text)
-            item.setData(0, n.tag)
-            self._notes[n.key] = n
+            self.item.placed.pop(k, None)
+        new = [k for k in wanted if k not in self._notes]
+        changed = False
+        for k, n in wanted.items():
+            old = self._notes.get(k)
+            self._notes[k] = n
+            if old is not None and old.text != n.text and k in self.item.placed:
+                _img, wx, wy = self.item.placed[k]
+                self.item.placed[k] = (self._image(n), wx, wy)
+                changed = True
         # Drag steps place only new notes; a full layout waits for the pause.
-        self.layout(None if relayout else new)
+        if relayout or new:
+            self.layout(None if relayout else new)
+        elif changed:
+            self.item.update()
 
-    def items(self, prefix: str = "") -> list[pg.TextItem]:
-        """Text items whose tag starts with ``prefix``."""
-        return [it for k, it in self._items.items() if self._notes[k].tag.startswith(prefix)]
+    def tags(self, prefix: str = "") -> list[str]:
+        """Tags of the notes shown that start with ``prefix``, sorted."""
+        return sorted(n.tag for n in self._notes.values() if n.tag.startswith(prefix))
 
     def texts(self, prefix: str = "") -> list[str]:
         """Texts of the notes whose tag starts with ``prefix``."""
         return [n.text for n in self._notes.values() if n.tag.startswith(prefix)]
 
+    def rects(self) -> dict[str, tuple[float, float, float, float]]:
+        """Tag -> viewport pixel rectangle of each placed note."""
+        return {self._notes[k].tag: r for k, r in self._placed.items() if k in self._notes}
+
     def layout(self, only: list[tuple] | None = None) -> None:
         """Place every note (or those ``only``) beside its box, clear of targets, their
         labels and each other."""
-        if not self._notes or only == []:
+        if only == []:
+            return
+        if not self._notes:
+            if self.item.placed:
+                self.item.placed.clear()
+                self.item.update()
             return
         host = self._host
         pick = self._notes.values() if only is None else [self._notes[k] for k in only]
@@ -578,20 +655,26 @@ class NoteLayer:
         obstacles = host.note_obstacles()
         if only is not None:
             obstacles += [r for k, r in self._placed.items() if k not in set(only)]
-        boxes, sizes = [], []
+        boxes, sizes, images = [], [], []
         for n in order:
             x0, y0, x1, y1 = n.box
             a, b = host.world_to_viewport(x0, y1), host.world_to_viewport(x1, y0)
             boxes.append((float(a.x()), float(a.y()), float(b.x()), float(b.y())))
-            r = self._items[n.key].textItem.boundingRect()
-            sizes.append((float(r.width()), float(r.height())))
+            img = self._image(n)
+            dpr = img.devicePixelRatio() or 1.0
+            images.append(img)
+            sizes.append((img.width() / dpr, img.height() / dpr))
         vr = host.plot.viewport().rect()
         view = (0.0, 0.0, float(vr.width()), float(vr.height()))
         spots = place_notes(boxes, sizes, obstacles, view)
-        for n, (x, y), (w, h) in zip(order, spots, sizes):
+        if only is None:
+            self._placed.clear()
+            self.item.placed.clear()
+        for n, img, (x, y), (w, h) in zip(order, images, spots, sizes):
             wx, wy = host.viewport_to_world(QPointF(x, y))
-            self._items[n.key].setPos(wx, wy)
+            self.item.placed[n.key] = (img, wx, wy)
             self._placed[n.key] = (x, y, x + w, y + h)
+        self.item.update()
 
 
 # ------------------------------------------------------------------ collision marks
@@ -625,6 +708,12 @@ class CollisionMarks:
         self._contacts_version: dict[str, int] = {}
         self._draft = False
         self._brush = QBrush(colour(style.PALETTE["ember"], 0.9), PATTERNS["cross"])
+        # The thick dashed edges of every hit fixture, one item.
+        self.hit_item = QGraphicsPathItem()
+        self.hit_item.setPen(cosmetic_pen(style.PALETTE["ember"], 3.0, "dash"))
+        self.hit_item.setData(0, "collision.hit_edges")
+        host._add(self.hit_item, Z_HIT_EDGE, cache=True)
+        self._hit_key: tuple = ()
 
     def set_draft(self, on: bool) -> None:
         """While a drag steps, colliding bodies are outlined only (hatching many of them
@@ -675,14 +764,21 @@ class CollisionMarks:
         if self._draft:
             # Redrawn every step: a cache would cost more than it saves (others keep theirs).
             marks.item.setCacheMode(_NO_CACHE)
-        # Drafts: the colliding links' centre segments (drawn over their ghost lines in
-        # solid ink) and a coarser contact search; true-size hatched bodies at the pause.
-        k, p = (0, 5) if self._draft else (ARC_POINTS, SEGMENT_SAMPLES)
+        # Drafts: the colliding links' centre segments, drawn over their ghost lines in
+        # solid ink; the true-size hatched bodies and the contact marks wait for the pause.
+        k, p = (0, 2) if self._draft else (ARC_POINTS, SEGMENT_SAMPLES)
         rings, samples = _body_geometry(ev.bodies, q, body, k, p)
         marks.item.setPath(_rings_path(rings))
-        marks.contacts = contact_points(samples, fix, _outlines(ev.fixtures))
+        marks.contacts = (
+            np.zeros((0, 2))
+            if self._draft
+            else contact_points(samples, fix, _outlines(ev.fixtures))
+        )
         names = ev.bodies.names
-        marks.hits = sorted({(ev.fixtures[int(f)].id, names[int(b)]) for f, b in zip(fix, body)})
+        pairs = np.unique(fix * len(names) + body)
+        marks.hits = [
+            (ev.fixtures[int(v) // len(names)].id, names[int(v) % len(names)]) for v in pairs
+        ]
         marks.version += 1
 
     def keep_arms(self, ids) -> None:
@@ -723,6 +819,14 @@ class CollisionMarks:
         for fid, item in fixture_items.items():
             item.set_hit(fid in texts)
         by_id = {f.id: f for f in cell.fixtures}
+        hit = [by_id[fid] for fid in sorted(texts) if fid in by_id]
+        key = tuple((f.id, f.outline) for f in hit)
+        if key != self._hit_key:
+            self._hit_key = key
+            path = QPainterPath()
+            for f in hit:
+                path.addPath(polygon_path(f.outline))
+            self.hit_item.setPath(path)
         # At most MAX_HIT_LABELS labels (the fixtures hit most); every hit one keeps its edge.
         ranked = sorted(
             (fid for fid in texts if fid in by_id), key=lambda f: (-texts[f].count(","), f)

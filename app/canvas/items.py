@@ -121,9 +121,8 @@ class FixtureItem(QGraphicsPathItem):
         self._halo.setFlag(QGraphicsItem.GraphicsItemFlag.ItemStacksBehindParent, True)
         self._halo.setPen(cosmetic_pen(style.PALETTE["harbour"], 8.0, alpha=0.45))
         self._halo.setVisible(False)
-        # Hit by a colliding body: a thick dashed edge over the kind's own edge, painted
-        # with the item itself (one cached image per fixture, not two).
-        self._hit_pen = cosmetic_pen(style.PALETTE["ember"], 3.0, "dash")
+        # Hit by a colliding body (the canvas draws the thick dashed edges of all hit
+        # fixtures as one item, cheaper than one more item per fixture).
         self.hit = False
 
     def setCacheMode(self, mode, *args) -> None:  # noqa: N802 (Qt name)
@@ -149,23 +148,8 @@ class FixtureItem(QGraphicsPathItem):
         self._halo.setVisible(on)
 
     def set_hit(self, on: bool) -> None:
-        """Mark the fixture as hit by a colliding body (thick dashed edge)."""
-        if on != self.hit:
-            self.hit = on
-            self.update()
-
-    def boundingRect(self) -> QRectF:  # noqa: N802 (Qt name)
-        # Room for the thick hit edge (cosmetic, so a little in world units is plenty).
-        r = super().boundingRect()
-        m = 0.02 * max(r.width(), r.height(), 1e-9)
-        return r.adjusted(-m, -m, m, m)
-
-    def paint(self, painter, option, widget=None) -> None:
-        super().paint(painter, option, widget)
-        if self.hit:
-            painter.setPen(self._hit_pen)
-            painter.setBrush(Qt.BrushStyle.NoBrush)
-            painter.drawPath(self.path())
+        """Record whether a colliding body hits the fixture."""
+        self.hit = on
 
 
 class ArmItem(pg.GraphicsObject):

@@ -119,7 +119,7 @@ def test_column_cell_flags_the_negative_pose_link_1_at_the_nest(qtbot):
     assert not c._fixture_items["nest_table"].hit
     (label,) = c.collision_marks.label_texts().values()
     assert label.startswith("hit by Nest loader link 1")
-    assert _scene_tags(c, "collision.label:") == ["collision.label:column"]
+    assert c._notes.tags("collision.label:") == ["collision.label:column"]
     # The failing target says what it hits.
     c.grab()
     assert _labels_of(c)["Spare nest"].startswith("★ collides with Building column C4 (")
