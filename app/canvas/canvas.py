@@ -1057,6 +1057,11 @@ class CellCanvas(QWidget):
             self._notes.set(notes + self._clearance.notes, relayout=not live)
         self._collisions.redraw_contacts(self._clearance.move_contacts)
 
+    def note_view(self) -> tuple[float, float, float, float]:
+        """The plot area in viewport pixels (left, top, right, bottom): where notes go."""
+        r = self.plot.mapFromScene(self.vb.sceneBoundingRect()).boundingRect()
+        return (float(r.left()), float(r.top()), float(r.right()), float(r.bottom()))
+
     def note_obstacles(self) -> list[tuple[float, float, float, float]]:
         """Viewport pixel boxes notes should keep clear of: target markers and labels."""
         out: list[tuple[float, float, float, float]] = []
@@ -1070,6 +1075,16 @@ class CellCanvas(QWidget):
             out += [(x - h, y - h, x + h, y + h) for x, y in zip(px.tolist(), py.tolist())]
         placed = self._labels.placed()
         out += [(x, y, x + w, y + h) for x, y, w, h, *_rest in placed]
+        hit = set(self._collisions.label_texts()) | set(self._clearance.move_hits)
+        for f in self.document.cell.fixtures:
+            if f.id not in hit:
+                continue
+            # A small hit fixture stays in sight (a large one would leave no room).
+            xy = np.asarray(f.outline, dtype=float)
+            a = self.world_to_viewport(float(xy[:, 0].min()), float(xy[:, 1].max()))
+            b = self.world_to_viewport(float(xy[:, 0].max()), float(xy[:, 1].min()))
+            if b.x() - a.x() < 80 and b.y() - a.y() < 80:
+                out.append((a.x() - 3.0, a.y() - 3.0, b.x() + 3.0, b.y() + 3.0))
         for item in self._arm_items.values():
             # The base and its name (drawn on either side of the base): a generous box.
             c = self.world_to_viewport(item.x, item.y)
@@ -1142,7 +1157,7 @@ class CellCanvas(QWidget):
             e.append(
                 LegendEntry(
                     "area",
-                    "colliding body (true size, hatched)",
+                    "colliding body (hatched)",
                     pen=cosmetic_pen(style.INK, 1.2),
                     brush=QBrush(colour(style.PALETTE["ember"], 0.9), PATTERNS["cross"]),
                 )
@@ -1158,7 +1173,7 @@ class CellCanvas(QWidget):
             e.append(
                 LegendEntry(
                     "line",
-                    "fixture hit (thick dashed edge, labelled)",
+                    "fixture hit (thick dashed edge)",
                     pen=cosmetic_pen(style.PALETTE["ember"], 3.0, "dash"),
                 )
             )

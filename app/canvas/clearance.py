@@ -480,9 +480,11 @@ def place_notes(
     """Top-left pixel corners for notes of ``sizes`` beside their anchor ``boxes``.
 
     All in device pixels (y down), boxes as (left, top, right, bottom). Each note takes
-    the first spot around its box (above, below, right, left, then the other corners)
-    that overlaps no obstacle and no note placed before it and lies in ``view``; failing
-    that, the spot with the least overlap.
+    the first spot around its box (above, below, right, left, then the corners) that
+    overlaps no obstacle and no note placed before it and lies in ``view``; when every
+    spot next to the box is taken, the same spots one, two and three note heights
+    further out; failing all, the spot with the least overlap (overlapping another note
+    costs ten times more than covering a marker or a target label).
 
     Examples
     --------
@@ -491,30 +493,38 @@ def place_notes(
     >>> place_notes([(10, 0, 50, 20)], [(30, 10)], [], (0, 0, 200, 200))
     [(10.0, 24.0)]
     """
-    taken = np.asarray(obstacles, dtype=float).reshape(-1, 4)
+    fixed = np.asarray(obstacles, dtype=float).reshape(-1, 4)
+    notes = np.zeros((0, 4))
     out = []
     for (l, t, r, b), (w, h) in zip(boxes, sizes):
         cx, cy = (l + r) / 2, (t + b) / 2
-        spots = [
-            (l, t - gap - h),
-            (l, b + gap),
-            (r + gap, t),
-            (l - gap - w, t),
-            (r - w, t - gap - h),
-            (r - w, b + gap),
-            (r + gap, b - h),
-            (l - gap - w, b - h),
-            (cx - w / 2, cy - h / 2),
-        ]
-        xy = np.array(spots, dtype=float)
-        rects = np.column_stack([xy, xy[:, 0] + w, xy[:, 1] + h])
-        outside = w * h - np.array([_overlap(tuple(rc), view) for rc in rects])
-        cost = 20.0 * outside + _overlaps(rects, taken)
-        # The first spot that is free, else the least covered (first among equals).
-        k = int(np.argmax(cost <= 0)) if (cost <= 0).any() else int(np.argmin(cost))
-        best = (float(xy[k, 0]), float(xy[k, 1]))
+        best, best_cost = None, math.inf
+        for ring in range(4):
+            dy, dx = ring * (h + gap), ring * (w / 2 + gap)
+            spots = [
+                (l, t - gap - h - dy),
+                (l, b + gap + dy),
+                (r + gap + dx, t),
+                (l - gap - w - dx, t),
+                (r - w, t - gap - h - dy),
+                (r - w, b + gap + dy),
+                (r + gap + dx, b - h),
+                (l - gap - w - dx, b - h),
+            ]
+            if ring == 0:
+                spots.append((cx - w / 2, cy - h / 2))
+            xy = np.array(spots, dtype=float)
+            rects = np.column_stack([xy, xy[:, 0] + w, xy[:, 1] + h])
+            outside = w * h - np.array([_overlap(tuple(rc), view) for rc in rects])
+            cost = 20.0 * outside + 10.0 * _overlaps(rects, notes) + _overlaps(rects, fixed)
+            k = int(np.argmin(cost))  # the first among equals: nearer spots come first
+            if cost[k] < best_cost - 1e-9:
+                best, best_cost = (float(xy[k, 0]), float(xy[k, 1])), float(cost[k])
+            if best_cost <= 0:
+                break
+        assert best is not None
         out.append(best)
-        taken = np.vstack([taken, [[best[0], best[1], best[0] + w, best[1] + h]]])
+        notes = np.vstack([notes, [[best[0], best[1], best[0] + w, best[1] + h]]])
     return out
 
 
@@ -523,7 +533,8 @@ class _NotesItem(pg.GraphicsObject):
 
     def __init__(self) -> None:
         super().__init__()
-        self.placed: dict[tuple, tuple[QImage, float, float]] = {}  # key -> image, world x, y
+        # key -> image, world x, y of its top-left corner, leader line (world) or None
+        self.placed: dict[tuple, tuple[QImage, float, float, tuple | None]] = {}
 
     def viewRangeChanged(self) -> None:
         self.prepareGeometryChange()
@@ -539,7 +550,12 @@ class _NotesItem(pg.GraphicsObject):
         tr = painter.transform()
         painter.save()
         painter.resetTransform()
-        for img, wx, wy in self.placed.values():
+        painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+        painter.setPen(QPen(QColor(style.INK), 1.0))
+        for _img, _wx, _wy, lead in self.placed.values():
+            if lead is not None:
+                painter.drawLine(tr.map(QPointF(*lead[0])), tr.map(QPointF(*lead[1])))
+        for img, wx, wy, _lead in self.placed.values():
             painter.drawImage(tr.map(QPointF(wx, wy)), img)
         painter.restore()
 
@@ -618,14 +634,27 @@ class NoteLayer:
             old = self._notes.get(k)
             self._notes[k] = n
             if old is not None and old.text != n.text and k in self.item.placed:
-                _img, wx, wy = self.item.placed[k]
-                self.item.placed[k] = (self._image(n), wx, wy)
+                _img, wx, wy, lead = self.item.placed[k]
+                self.item.placed[k] = (self._image(n), wx, wy, lead)
                 changed = True
         # Drag steps place only new notes; a full layout waits for the pause.
         if relayout or new:
             self.layout(None if relayout else new)
         elif changed:
             self.item.update()
+
+    def _leader(self, box: tuple, rect: tuple) -> tuple | None:
+        """A line (world points) from a note to its box when it had to sit further out."""
+        # The box point nearest the note's centre, and the note point nearest that.
+        bx = min(max((rect[0] + rect[2]) / 2, box[0]), box[2])
+        by = min(max((rect[1] + rect[3]) / 2, box[1]), box[3])
+        nx = min(max(bx, rect[0]), rect[2])
+        ny = min(max(by, rect[1]), rect[3])
+        if math.hypot(nx - bx, ny - by) <= 8.0:
+            return None
+        a = self._host.viewport_to_world(QPointF(nx, ny))
+        b = self._host.viewport_to_world(QPointF(bx, by))
+        return (a, b)
 
     def tags(self, prefix: str = "") -> list[str]:
         """Tags of the notes shown that start with ``prefix``, sorted."""
@@ -664,16 +693,15 @@ class NoteLayer:
             dpr = img.devicePixelRatio() or 1.0
             images.append(img)
             sizes.append((img.width() / dpr, img.height() / dpr))
-        vr = host.plot.viewport().rect()
-        view = (0.0, 0.0, float(vr.width()), float(vr.height()))
-        spots = place_notes(boxes, sizes, obstacles, view)
+        spots = place_notes(boxes, sizes, obstacles, host.note_view())
         if only is None:
             self._placed.clear()
             self.item.placed.clear()
-        for n, img, (x, y), (w, h) in zip(order, images, spots, sizes):
+        for n, img, box, (x, y), (w, h) in zip(order, images, boxes, spots, sizes):
             wx, wy = host.viewport_to_world(QPointF(x, y))
-            self.item.placed[n.key] = (img, wx, wy)
-            self._placed[n.key] = (x, y, x + w, y + h)
+            rect = (x, y, x + w, y + h)
+            self.item.placed[n.key] = (img, wx, wy, self._leader(box, rect))
+            self._placed[n.key] = rect
         self.item.update()
 
 
@@ -1015,34 +1043,38 @@ class ClearanceOverlays:
             pen, brush, _ = looks[kind]
             return LegendEntry("area", text, pen=QPen(pen), brush=brush)
 
+        # Short texts: the legend is narrow (about 32 characters).
         rows = []
         if "space.maximum" in enabled:
             sources = {self.sources.get(a.id, "") for a in cell.arms} - {""}
             if len(sources) <= 1:
                 src = next(iter(sources), "joint limits")
-                rows.append(area("space.maximum", f"maximum space (from the {src}, dash-dot-dot)"))
+                rows.append(area("space.maximum", f"maximum space: {src}"))
             else:
                 for a in cell.arms:
                     src = self.sources.get(a.id, "joint limits")
-                    rows.append(area("space.maximum", f"maximum space, {a.name}: from the {src}"))
+                    rows.append(area("space.maximum", f"maximum, {a.name}: {src}"))
         if "space.restricted" in enabled:
-            rows.append(area("space.restricted", "restricted space (joint limits, dashed)"))
+            rows.append(area("space.restricted", "restricted space (dashed)"))
         if "space.operating" in enabled:
-            rows.append(area("space.operating", "operating space (sequences, |||)"))
+            rows.append(area("space.operating", "operating space (|||)"))
         if "swept" in enabled:
-            rows.append(area("swept", "swept area of a move (thin edge)"))
-            rows.append(area("swept.collides", "move collides (cross-hatched, dashed)"))
+            rows.append(area("swept", "swept area of a move"))
+            rows.append(area("swept.collides", "move collides (hatched, dashed)"))
         if "shared" in enabled:
-            rows.append(area("shared", "shared zone: interlock needed (grid)"))
-            rows.append(area("shared.operating", "shared zone of operating spaces (dotted)"))
+            rows.append(area("shared", "shared zone: interlock needed"))
+            rows.append(area("shared.operating", "shared operating zone (dotted)"))
         if "shared_targets" in enabled and len(cell.arms) > 1:
             rows.append(
                 LegendEntry(
-                    "symbol", "target several arms reach (hexagon)", symbol=SHARED_SYMBOL, colour=""
+                    "symbol",
+                    "target several arms reach (⬡)",
+                    symbol=SHARED_SYMBOL,
+                    pen=QPen(colour(style.PALETTE["pine"])),
                 )
             )
         if "passes_over" in enabled:
-            rows.append(area("passes_over", "fixture the links pass over (dotted)"))
+            rows.append(area("passes_over", "fixture passed over (dotted)"))
         if rows:
             e.append(LegendEntry("header", "Spaces and moves (ISO 10218 terms)"))
             e += rows
@@ -1160,6 +1192,8 @@ class ClearanceOverlays:
         missing: set[str] = set()
         contacts = []
         fixture_names = {f.id: f.name for f in cell.fixtures}
+        hit_moves: dict[tuple, list[tuple[str, str, str]]] = {}
+        noted: dict[tuple, str] = {}
         for (aid, a, b), m in found:
             arm = arms.get(aid)
             if arm is None:
@@ -1192,9 +1226,7 @@ class ClearanceOverlays:
                 fid = m.blocked_by or cell.fixtures[m.sweep.contact.fixture].id
                 ab, _ = self._bodies_of(arm)
                 body = ab.names[m.sweep.body] if 0 <= m.sweep.body < len(ab.names) else "arm"
-                self.move_hits.setdefault(fid, []).append(
-                    f"hit by {arm.name} {body} on move {a} → {b}"
-                )
+                hit_moves.setdefault((fid, aid, body), []).append((a, b))
             if "swept" not in enabled:
                 continue
             key = ("swept", aid, a, b)
@@ -1209,6 +1241,22 @@ class ClearanceOverlays:
             wanted.add(key)
             if m.collides and m.sweep is not None and m.sweep.contact is not None:
                 fname = fixture_names.get(m.blocked_by or "", "a fixture")
+                back = ("swept", aid, b, a)
+                if back in noted and noted[back] == fname:
+                    # The return move hits the same fixture: one note for both.
+                    self.notes = [
+                        replace(
+                            n,
+                            text=n.text.replace(" → ", " ⇄ ", 1)
+                            .replace("✕ move", "✕ moves", 1)
+                            .replace(" collides with", " collide with", 1),
+                        )
+                        if n.key == back
+                        else n
+                        for n in self.notes
+                    ]
+                    continue
+                noted[("swept", aid, a, b)] = fname
                 text = f"✕ move {names.get(a, a)} → {names.get(b, b)} collides with {fname}"
                 cx, cy = m.sweep.contact.xy
                 self._note(
@@ -1220,6 +1268,22 @@ class ClearanceOverlays:
                     priority=1,
                 )
         self.move_contacts = np.array(contacts, dtype=float).reshape(-1, 2)
+        arm_names = {a.id: a.name for a in cell.arms}
+        for (fid, aid, body), pairs in hit_moves.items():
+            # One line per arm and body; a move and its return share one entry.
+            words, seen = [], set()
+            for a, b in pairs:
+                if (a, b) in seen:
+                    continue
+                if (b, a) in pairs:
+                    seen.add((b, a))
+                    words.append(f"{a} ⇄ {b}")
+                else:
+                    words.append(f"{a} → {b}")
+            plural = "s" if len(words) > 1 or "⇄" in words[0] else ""
+            self.move_hits.setdefault(fid, []).append(
+                f"hit by {arm_names.get(aid, aid)} {body} on move{plural} {', '.join(words)}"
+            )
         if missing:
             self.stale |= {"swept", "space.operating"}
         if "space.operating" in enabled:

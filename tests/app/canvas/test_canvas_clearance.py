@@ -126,7 +126,7 @@ def test_column_cell_flags_the_negative_pose_link_1_at_the_nest(qtbot):
     assert "collides with Building column C4 (link 1)" in c.target_tooltip("nest")
     legend = c.legend.texts()
     assert "contact point (circled cross)" in legend
-    assert "fixture hit (thick dashed edge, labelled)" in legend
+    assert "fixture hit (thick dashed edge)" in legend
 
 
 def test_dragging_the_column_onto_a_clear_targets_links_fails_it_live_and_esc_restores(qtbot):
@@ -213,10 +213,10 @@ def test_spaces_are_computed_only_while_shown_and_follow_a_base_move(qtbot):
     doc.cancel_preview()
     # Where the maximum space comes from is in the legend (no mechanical range in this cell).
     c.actions()["overlay.space.maximum"].setChecked(True)
-    assert any(t.startswith("maximum space (from the joint limits") for t in c.legend.texts())
+    assert any(t == "maximum space: joint limits" for t in c.legend.texts())
     mech = replace(arm, extra={**arm.extra, "mechanical_limits_deg": [[-170, 170], [-150, 150]]})
     doc.apply(replace(doc.cell, arms=(mech,)))
-    assert any(t.startswith("maximum space (from the mechanical range") for t in c.legend.texts())
+    assert any(t == "maximum space: mechanical range" for t in c.legend.texts())
 
 
 def test_swept_areas_wait_for_a_pause_and_mark_a_colliding_move(qtbot):
@@ -247,9 +247,9 @@ def test_swept_areas_wait_for_a_pause_and_mark_a_colliding_move(qtbot):
     looks = sorted(it.data(1) for it in c.overlay_items("swept") if it.data(1))
     assert looks == ["swept.collides", "swept.collides"]
     notes = c._notes.texts("overlay.swept.note")
-    assert notes and all("collides with Post P1" in t for t in notes)
+    assert notes == ["✕ moves Infeed pick ⇄ Nest collide with Post P1"]  # one note for both
     assert c._fixture_items["post"].hit
-    assert any("on move pick → nest" in t for t in c.collision_marks.label_texts().values())
+    assert any("on moves pick ⇄ nest" in t for t in c.collision_marks.label_texts().values())
 
 
 def test_shared_zone_and_targets_several_arms_reach(qtbot):
@@ -265,7 +265,7 @@ def test_shared_zone_and_targets_several_arms_reach(qtbot):
     assert not restricted.contains(QPointF(0.0, 0.0))
     notes = c._notes.texts("overlay.shared.note")
     assert notes and all(t.startswith("shared zone: interlock needed") for t in notes)
-    assert "shared zone: interlock needed (grid)" in c.legend.texts()
+    assert "shared zone: interlock needed" in c.legend.texts()
     # Targets both arms reach (on by default) are ringed: the two handover targets.
     assert set(c.clearance_overlays.shared_target_ids()) == {"handover_put", "handover_take"}
     for t in doc.cell.targets:
@@ -342,3 +342,20 @@ def test_note_placement_keeps_clear_of_markers_and_each_other():
         (0, 0, 800, 600),
     )
     assert spots == [(100.0, 82.0), (100.0, 124.0), (300.0, 124.0)]
+
+
+@pytest.mark.parametrize("path", [COLUMN, SHARED], ids=["column", "shared"])
+def test_notes_sit_whole_in_the_plot_area_and_apart(qtbot, path):
+    c = _canvas(qtbot, Document(load_cell(path)), size=(1000, 700))
+    for key in CLEARANCE_OVERLAYS:
+        c.actions()[f"overlay.{key}"].setChecked(True)
+    c.grab()  # target labels are laid out when painted
+    c._notes.layout()
+    left, top, right, bottom = c.note_view()
+    rects = list(c._notes.rects().values())
+    assert rects
+    for x0, y0, x1, y1 in rects:
+        assert left <= x0 and x1 <= right and top <= y0 and y1 <= bottom
+    for i, a in enumerate(rects):
+        for b in rects[i + 1 :]:
+            assert min(a[2], b[2]) <= max(a[0], b[0]) or min(a[3], b[3]) <= max(a[1], b[1])
