@@ -738,7 +738,9 @@ class CollisionMarks:
         self._brush = QBrush(colour(style.PALETTE["ember"], 0.9), PATTERNS["cross"])
         # The thick dashed edges of every hit fixture, one item.
         self.hit_item = QGraphicsPathItem()
-        self.hit_item.setPen(cosmetic_pen(style.PALETTE["ember"], 3.0, "dash"))
+        self._hit_pen = cosmetic_pen(style.PALETTE["ember"], 3.0, "dash")
+        self._hit_draft_pen = cosmetic_pen(style.PALETTE["ember"], 1.0)
+        self.hit_item.setPen(self._hit_pen)
         self.hit_item.setData(0, "collision.hit_edges")
         host._add(self.hit_item, Z_HIT_EDGE, cache=True)
         self._hit_key: tuple = ()
@@ -749,6 +751,10 @@ class CollisionMarks:
         if on == self._draft:
             return
         self._draft = on
+        # While stepping: a one-pixel solid edge, drawn directly (the hit set changes often,
+        # and a cached wide dashed path would be redrawn whole each time).
+        self.hit_item.setPen(self._hit_draft_pen if on else self._hit_pen)
+        self.hit_item.setCacheMode(_NO_CACHE if on else _CACHE)
         for m in self._arms.values():
             m.item.setBrush(QBrush(Qt.BrushStyle.NoBrush) if on else self._brush)
             if not on:
