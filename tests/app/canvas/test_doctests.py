@@ -6,10 +6,10 @@ import doctest
 
 import pytest
 
-from app.canvas import edits, items, snapping
+from app.canvas import clearance, edits, items, snapping
 
 
-@pytest.mark.parametrize("module", [snapping, edits, items], ids=lambda m: m.__name__)
+@pytest.mark.parametrize("module", [snapping, edits, items, clearance], ids=lambda m: m.__name__)
 def test_docstring_examples(module):
     result = doctest.testmod(module)
     assert result.attempted > 0
