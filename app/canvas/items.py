@@ -263,6 +263,8 @@ class _ImageLayer(pg.GraphicsObject):
     Groups are the arms: while one base is dragged only its group is drawn
     again; the others, and every repeat paint of an unchanged state, cost an
     image copy instead of hundreds of draw calls.
+
+    A base class: subclasses (MarkersItem) provide ``_prepare`` and ``_draw``.
     """
 
     def __init__(self) -> None:
