@@ -5,6 +5,10 @@
 Exit status of ``check``: 0 when every target is feasible, 1 when some are not,
 2 when the file or the arguments cannot be used or the report cannot be written
 (one line on stderr).
+
+Subcommands are listed in :data:`SUBCOMMANDS`: name -> function taking the remaining
+arguments and returning the exit status. A subcommand module registers itself there
+with one line, so adding one touches nothing else here.
 """
 
 from __future__ import annotations
@@ -13,9 +17,10 @@ import argparse
 import json
 import os
 import sys
+from collections.abc import Callable
 from pathlib import Path
 
-__all__ = ["main"]
+__all__ = ["main", "SUBCOMMANDS", "EXIT_OK", "EXIT_INFEASIBLE", "EXIT_UNUSABLE"]
 
 EXIT_OK, EXIT_INFEASIBLE, EXIT_UNUSABLE = 0, 1, 2
 
@@ -134,13 +139,23 @@ def has_display() -> bool:
     return True
 
 
+def _check_command(args: list[str]) -> int:
+    ns = _check_parser().parse_args(args)
+    return _run_check(ns.cell, ns.json)
+
+
+#: Subcommand name -> function(remaining arguments) -> exit status.
+SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
+    "check": _check_command,
+}
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``elbowroom`` console script."""
     args = list(sys.argv[1:] if argv is None else argv)
     try:
-        if args and args[0] == "check":
-            ns = _check_parser().parse_args(args[1:])
-            return _run_check(ns.cell, ns.json)
+        if args and args[0] in SUBCOMMANDS:
+            return SUBCOMMANDS[args[0]](args[1:])
         ns = _window_parser().parse_args(args)
     except SystemExit as exc:  # argparse: --help exits 0, errors exit 2
         return int(exc.code or 0)
