@@ -31,7 +31,6 @@ import numbers
 import os
 import re
 import stat
-import uuid
 from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
@@ -39,6 +38,7 @@ from typing import Any
 from shapely.geometry import Polygon
 from shapely.validation import explain_validity
 
+from kinematics.atomic import write_atomic
 from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
 
@@ -1079,42 +1079,6 @@ def dumps_cell(cell: Cell) -> str:
     return _dumps(cell, "<cell>")
 
 
-def _open_temp(folder: Path, name: str) -> tuple[Path, int]:
-    while True:
-        tmp = folder / f".{name}.{uuid.uuid4().hex[:12]}.tmp"
-        try:
-            # 0o666 lets the umask decide the permissions, as for any new file.
-            flags = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
-            return tmp, os.open(tmp, flags, 0o666)
-        except FileExistsError:
-            continue
-
-
-def _write_all(fd: int, data: bytes) -> None:
-    try:
-        f = os.fdopen(fd, "wb")
-    except BaseException:
-        os.close(fd)
-        raise
-    with f:
-        f.write(data)
-        f.flush()
-        os.fsync(f.fileno())
-
-
-def _fsync_folder(folder: Path) -> None:
-    try:
-        fd = os.open(folder, os.O_RDONLY)
-    except OSError:
-        return  # some systems cannot open folders; the rename is still atomic
-    try:
-        os.fsync(fd)
-    except OSError:
-        pass
-    finally:
-        os.close(fd)
-
-
 def _newer_version_on_disk(path: Path) -> int | None:
     """The version of an existing cell file if it is newer than ours, else None."""
     try:
@@ -1173,29 +1137,13 @@ def save_cell(cell: Cell, path: str | os.PathLike[str], *, replace_newer: bool =
                 f"would rewrite it as version {CURRENT_VERSION} and drop what this program does "
                 "not know, so it was not saved (save under another name)"
             )
-    temps: list[Path] = []
     try:
-        tmp, fd = _open_temp(folder, target.name)
-        temps.append(tmp)
-        _write_all(fd, data)
         if exists:
+            # The previous version goes to the backup first, the same atomic way.
             mode = stat.S_IMODE(target.stat().st_mode)
-            os.chmod(tmp, mode)
-            old = target.read_bytes()
-            btmp, bfd = _open_temp(folder, backup.name)
-            temps.append(btmp)
-            _write_all(bfd, old)
-            os.chmod(btmp, mode)
-            os.replace(btmp, backup)
-            temps.remove(btmp)
-        os.replace(tmp, target)
-        temps.remove(tmp)
-        _fsync_folder(folder)
+            write_atomic(backup, target.read_bytes(), mode)
+            write_atomic(target, data, mode)
+        else:
+            write_atomic(target, data)
     except OSError as exc:
         raise CellFileError(f"{source}: could not be saved ({_os_reason(exc)})") from None
-    finally:
-        for leftover in temps:
-            try:
-                os.unlink(leftover)
-            except OSError:
-                pass
