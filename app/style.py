@@ -69,7 +69,8 @@ class StatusStyle:
 
 
 #: One distinct shape per status: circle ok, cross out of reach, diamond hole,
-#: triangles up/down for the q1/q2 limit, square elbow excluded, star collision.
+#: triangles up/down for the q1/q2 limit, square elbow excluded, star collision, pentagon
+#: base overlapping a fixture.
 STATUS_STYLES: dict[Status, StatusStyle] = {
     Status.OK: StatusStyle(PALETTE["pine"], "●", "o", "ok"),
     Status.BEYOND_REACH: StatusStyle(PALETTE["ember"], "✕", "x", "out of reach"),
@@ -78,6 +79,7 @@ STATUS_STYLES: dict[Status, StatusStyle] = {
     Status.Q2_LIMIT: StatusStyle(PALETTE["amber"], "▼", "t", "q2 limit"),
     Status.ELBOW_EXCLUDED: StatusStyle(PALETTE["sky"], "■", "s", "elbow excluded"),
     Status.COLLISION: StatusStyle(PALETTE["ember"], "★", "star", "collision"),
+    Status.BASE_OVERLAP: StatusStyle(PALETTE["slate"], "⬟", "p", "base overlaps"),
 }
 
 

@@ -37,6 +37,20 @@ The 2.5-D rule (heights in cell units, above the same floor):
 Links without ``link_radii`` get a radius of ``DEFAULT_RADIUS_FRACTION`` of the reach
 (a1 + a2) and the bodies say so (``radii_assumed``): a zero radius would call poses
 clear whose real links touch the fixture.
+
+The bodies fall into two groups:
+
+* the **base**: the part that never moves, the base footprint when given, else the
+  shoulder disc (link 1's radius about the shoulder axis). Its clearance is the same at
+  every pose, so it is checked once per arm.
+* the **moving bodies**: link 1 outside the shoulder disc (its capsule less the open
+  disc of link 1's radius about the shoulder axis: the shoulder end cap never moves,
+  the link's flanks beside the shoulder do), link 2 and the tool. Clearances of poses
+  are measured from these, so they tell poses apart.
+
+:func:`pose` places bodies at joint angles (the one posing function: clearance, moves,
+spaces and the drawings all use it) and :func:`body_rings` gives their outlines as
+arrays of rings for drawing.
 """
 
 from __future__ import annotations
@@ -51,6 +65,7 @@ import shapely
 from numpy.typing import ArrayLike, NDArray
 
 from .cell import Arm, Cell, Fixture, Target
+from .checks import polygon_problem
 
 __all__ = [
     "BodyDataError",
@@ -61,9 +76,13 @@ __all__ = [
     "LINK2",
     "TOOL",
     "Body",
+    "PosedBody",
     "ArmBodies",
     "arm_bodies",
     "frames",
+    "pose",
+    "body_rings",
+    "ARC_POINTS",
     "clearance_margin",
     "work_height",
     "work_heights",
@@ -84,6 +103,9 @@ KEEP_OUT = "keep-out"
 
 #: Frames a body can ride on: the base (never moves), link 1, link 2 and the tool point.
 BASE, LINK1, LINK2, TOOL = 0, 1, 2, 3
+
+#: Points per half circle of a drawn capsule end (sub-pixel at sensible zooms).
+ARC_POINTS = 8
 
 
 class BodyDataError(ValueError):
@@ -118,7 +140,7 @@ class Body:
     Attributes
     ----------
     name : str
-        ``"link 1"``, ``"link 2"``, ``"tool"`` or ``"base"``.
+        ``"link 1"``, ``"link 2"``, ``"tool"``, ``"tool outline"`` or ``"base"``.
     frame : int
         :data:`BASE`, :data:`LINK1`, :data:`LINK2` or :data:`TOOL`.
     kind : str
@@ -130,6 +152,10 @@ class Body:
         Capsule radius (0 for polygons).
     outline : ndarray or None
         Polygon vertices ``(V, 2)`` in the frame, counter-clockwise, not closed.
+    trim : float
+        Radius of the open disc about the frame origin that is not part of the body (link
+        1's capsule less the shoulder disc: ``a`` is the origin and ``trim == radius``);
+        0 for whole bodies.
     """
 
     name: str
@@ -139,6 +165,12 @@ class Body:
     b: tuple[float, float] = (0.0, 0.0)
     radius: float = 0.0
     outline: NDArray[np.float64] | None = None
+    trim: float = 0.0
+
+    @property
+    def moving(self) -> bool:
+        """Whether the body moves with the joints (everything but the base)."""
+        return self.frame != BASE
 
     @property
     def extent(self) -> float:
@@ -155,6 +187,69 @@ class Body:
 
 
 @dataclass(frozen=True)
+class PosedBody:
+    """One body at a batch of P poses, in world coordinates.
+
+    Attributes
+    ----------
+    body : Body
+    index : int
+        Position of the body in :attr:`ArmBodies.bodies`.
+    origin : ndarray, shape (P, 2)
+        The frame origin (for link 1: the shoulder axis).
+    cos, sin : ndarray, shape (P,)
+        The frame's direction.
+    a, b : ndarray, shape (P, 2), or None
+        Capsule segment ends (None for polygons).
+    W : ndarray, shape (P, M, 2), or None
+        Polygon vertices (None for capsules).
+    """
+
+    body: Body
+    index: int
+    origin: NDArray[np.float64]
+    cos: NDArray[np.float64]
+    sin: NDArray[np.float64]
+    a: NDArray[np.float64] | None = None
+    b: NDArray[np.float64] | None = None
+    W: NDArray[np.float64] | None = None
+
+    def __len__(self) -> int:
+        return len(self.origin)
+
+    @property
+    def core(self) -> NDArray[np.float64]:
+        """Core points (P, K, 2): the capsule's segment ends (one point for a disc) or the
+        polygon's vertices."""
+        if self.W is not None:
+            return self.W
+        assert self.a is not None and self.b is not None
+        if self.body.a == self.body.b:
+            return self.a[:, None, :]
+        return np.stack([self.a, self.b], axis=1)
+
+    @property
+    def bbox(self) -> NDArray[np.float64]:
+        """Bounding boxes (P, 4): xmin, ymin, xmax, ymax (the whole capsule, trim ignored)."""
+        core = self.core
+        r = self.body.radius
+        return np.concatenate([core.min(axis=1) - r, core.max(axis=1) + r], axis=1)
+
+    def take(self, idx: NDArray[np.int64] | slice) -> PosedBody:
+        """The same body at a subset of the poses."""
+        return PosedBody(
+            self.body,
+            self.index,
+            self.origin[idx],
+            self.cos[idx],
+            self.sin[idx],
+            None if self.a is None else self.a[idx],
+            None if self.b is None else self.b[idx],
+            None if self.W is None else self.W[idx],
+        )
+
+
+@dataclass(frozen=True)
 class ArmBodies:
     """All bodies of one arm plus the data the clearance checks need.
 
@@ -162,7 +257,8 @@ class ArmBodies:
     ----------
     arm : Arm
     bodies : tuple of Body
-        Moving bodies first (link 1, link 2, tool), the base footprint last.
+        Moving bodies first (link 1, link 2, tool), the base last (its footprint, or the
+        shoulder disc when none is given).
     link_radii : tuple of float
         Radii used for the link capsules (given or assumed).
     radii_assumed : bool
@@ -189,27 +285,32 @@ class ArmBodies:
         """Whether the arm has a tool body."""
         return any(b.frame == TOOL for b in self.bodies)
 
-    def shapes(self, q_deg: ArrayLike) -> dict[str, shapely.Geometry]:
+    @property
+    def base_index(self) -> int:
+        """Index of the base body (always the last)."""
+        return len(self.bodies) - 1
+
+    @property
+    def base(self) -> Body:
+        """The base: footprint, or shoulder disc of link 1's radius."""
+        return self.bodies[-1]
+
+    @property
+    def moving_indices(self) -> tuple[int, ...]:
+        """Indices of the moving bodies (link 1 outside the shoulder disc, link 2, tool)."""
+        return tuple(k for k, b in enumerate(self.bodies) if b.moving)
+
+    def shapes(self, q_deg: ArrayLike, arc_points: int = 32) -> dict[str, shapely.Geometry]:
         """Shapely polygons of the bodies at one pose (for drawing and reference checks).
 
-        Circles are polygonised by shapely's buffer and so lie slightly inside the true
-        circle; use the clearance module for exact numbers.
+        Arcs are polygonised with ``arc_points`` points per half circle (on the circle, so
+        the polygons lie slightly inside the true bodies); use the clearance module for
+        exact numbers. Link 1 is its moving part (less the shoulder disc).
         """
-        q = np.asarray(q_deg, dtype=float).reshape(2)
-        org, ang = frames(self.arm, q[None, :])
+        q = np.asarray(q_deg, dtype=float).reshape(1, 2)
         out: dict[str, shapely.Geometry] = {}
-        for body in self.bodies:
-            o, t = org[0, body.frame], ang[0, body.frame]
-            c, s = math.cos(t), math.sin(t)
-            rot = np.array([[c, -s], [s, c]])
-            if body.kind == "capsule":
-                pa = o + rot @ np.asarray(body.a)
-                pb = o + rot @ np.asarray(body.b)
-                core = shapely.LineString([pa, pb]) if body.a != body.b else shapely.Point(pa)
-                out[body.name] = core.buffer(body.radius, quad_segs=32)
-            else:
-                assert body.outline is not None
-                out[body.name] = shapely.Polygon(o + body.outline @ rot.T)
+        for pb in pose(self, q):
+            out[pb.body.name] = shapely.Polygon(body_rings(pb, arc_points)[0])
         return out
 
 
@@ -240,6 +341,102 @@ def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.
     origin = np.stack([base, base, elbow, tool], axis=-2)
     angle = np.stack([np.full_like(t1, h), t1, t12, t12], axis=-1)
     return origin, angle
+
+
+def pose(
+    bodies: ArmBodies, q_deg: ArrayLike, indices: Sequence[int] | None = None
+) -> list[PosedBody]:
+    """Place bodies of an arm at poses ``q_deg`` (shape (P, 2)), in world coordinates.
+
+    The one posing function: clearance, moves, spaces and drawings all use it.
+
+    Parameters
+    ----------
+    bodies : ArmBodies
+    q_deg : array_like, shape (P, 2)
+        Joint angles in degrees.
+    indices : sequence of int, optional
+        Which bodies (default: all, in order).
+
+    Examples
+    --------
+    >>> arm = Arm("a", "A", 100, 0, 90, 400, 250, (-180, 180), (-150, 150), link_radii=(40, 30))
+    >>> link2 = pose(arm_bodies(arm), [[0.0, -90.0]], [1])[0]
+    >>> link2.a.round(9).tolist(), link2.b.round(9).tolist()
+    ([[100.0, 400.0]], [[350.0, 400.0]])
+    """
+    q = np.asarray(q_deg, dtype=float).reshape(-1, 2)
+    origin, angle = frames(bodies.arm, q)
+    picks = range(len(bodies.bodies)) if indices is None else indices
+    out = []
+    for k in picks:
+        body = bodies.bodies[k]
+        o = origin[:, body.frame]
+        c, s = np.cos(angle[:, body.frame]), np.sin(angle[:, body.frame])
+        if body.kind == "capsule":
+            ax, ay = body.a
+            bx, by = body.b
+            pa = o + np.stack([c * ax - s * ay, s * ax + c * ay], axis=-1)
+            pb = o + np.stack([c * bx - s * by, s * bx + c * by], axis=-1)
+            out.append(PosedBody(body, k, o, c, s, a=pa, b=pb))
+        else:
+            assert body.outline is not None
+            lx, ly = body.outline[:, 0], body.outline[:, 1]
+            W = o[:, None, :] + np.stack(
+                [c[:, None] * lx - s[:, None] * ly, s[:, None] * lx + c[:, None] * ly], axis=-1
+            )
+            out.append(PosedBody(body, k, o, c, s, W=W))
+    return out
+
+
+def _arc(centre: NDArray, r: float, a0: NDArray, a1: NDArray, k: int) -> NDArray:
+    """Points (P, k + 1, 2) on circles about ``centre`` (P, 2) from angles a0 to a1 (P,)."""
+    t = np.linspace(0.0, 1.0, k + 1)
+    ang = a0[:, None] + (a1 - a0)[:, None] * t[None, :]
+    return centre[:, None, :] + r * np.stack([np.cos(ang), np.sin(ang)], axis=-1)
+
+
+def body_rings(posed: PosedBody, arc_points: int = ARC_POINTS) -> NDArray[np.float64]:
+    """Closed outlines of a posed body, shape (P, K, 2) (the last point repeats the first).
+
+    Capsules get ``arc_points`` points per half circle (points on the circle); link 1's
+    moving part is its capsule less the shoulder disc: far cap, flanks and the concave
+    arc of the shoulder disc. With ``arc_points == 0`` a capsule is given by its centre
+    segment alone (a quick draft).
+
+    Examples
+    --------
+    A link of length 10 and radius 2 along +x: its capsule, four points per half circle.
+
+    >>> arm = Arm("a", "A", 0, 0, 0, 10, 5, (-180, 180), (-150, 150), link_radii=(2, 1))
+    >>> link2 = pose(arm_bodies(arm), [[0.0, 0.0]], [1])[0]
+    >>> ring = body_rings(link2, 2)[0]
+    >>> (ring.round(6) + 0.0).tolist()
+    [[15.0, -1.0], [16.0, 0.0], [15.0, 1.0], [10.0, 1.0], [9.0, 0.0], [10.0, -1.0], [15.0, -1.0]]
+    """
+    body = posed.body
+    if body.kind == "polygon":
+        assert posed.W is not None
+        return np.concatenate([posed.W, posed.W[:, :1]], axis=1)
+    assert posed.a is not None and posed.b is not None
+    a, b, r = posed.a, posed.b, body.radius
+    if arc_points == 0 and body.a != body.b:
+        return np.stack([a, b], axis=1)
+    k = max(arc_points, 2)
+    d = b - a
+    ang = np.arctan2(d[:, 1], d[:, 0])
+    if body.a == body.b:
+        ang = np.zeros(len(a))
+        far = _arc(b, r, ang - math.pi / 2, ang + math.pi / 2, k)
+        near = _arc(a, r, ang + math.pi / 2, ang + 3 * math.pi / 2, k)
+        return np.concatenate([far, near, far[:, :1]], axis=1)
+    far = _arc(b, r, ang - math.pi / 2, ang + math.pi / 2, k)
+    if body.trim > 0:
+        # The shoulder disc's arc, walked from the upper flank back to the lower one.
+        near = _arc(a, body.trim, ang + math.pi / 2, ang - math.pi / 2, k)
+    else:
+        near = _arc(a, r, ang + math.pi / 2, ang + 3 * math.pi / 2, k)
+    return np.concatenate([far, near, far[:, :1]], axis=1)
 
 
 # ---------------------------------------------------------------------------------------
@@ -276,9 +473,10 @@ def _outline(v: Any, path: str) -> NDArray[np.float64]:
         pts.append((float(p[0]), float(p[1])))
     if pts[0] == pts[-1]:
         pts = pts[:-1]  # a closed ring is accepted too
+    problem = polygon_problem(pts)
+    if problem is not None:
+        raise BodyDataError(path, problem, v)
     poly = shapely.Polygon(pts)
-    if len(pts) < 3 or not poly.is_valid or poly.area <= 0:
-        raise BodyDataError(path, "must be a simple polygon with an area", v)
     arr = np.array(pts, dtype=float)
     if not poly.exterior.is_ccw:
         arr = arr[::-1].copy()
@@ -364,7 +562,7 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
     ...           extra={"tool_body": {"radius": 25}})
     >>> ab = arm_bodies(arm)
     >>> ab.names, ab.min_link_radius, ab.radii_assumed
-    (('link 1', 'link 2', 'tool'), 30.0, False)
+    (('link 1', 'link 2', 'tool', 'base'), 30.0, False)
     """
     ex: Mapping[str, Any] = arm.extra
     if arm.link_radii is None:
@@ -387,7 +585,11 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
     for k, (frame, length) in enumerate(((LINK1, arm.a1), (LINK2, arm.a2))):
         name = f"link {k + 1}"
         if outlines[k] is None:
-            bodies.append(Body(name, frame, "capsule", (0.0, 0.0), (length, 0.0), radii[k]))
+            # Link 1's shoulder end never moves: the shoulder disc belongs to the base.
+            trim = radii[0] if k == 0 else 0.0
+            bodies.append(
+                Body(name, frame, "capsule", (0.0, 0.0), (length, 0.0), radii[k], trim=trim)
+            )
         else:
             bodies.append(Body(name, frame, "polygon", outline=outlines[k]))
     tool = ex.get("tool_body")
@@ -409,6 +611,8 @@ def arm_bodies(arm: Arm, path: str = "arm") -> ArmBodies:
     fp = ex.get("base_footprint")
     if fp is not None:
         bodies.append(Body("base", BASE, "polygon", outline=_outline(fp, f"{path}.base_footprint")))
+    else:
+        bodies.append(Body("base", BASE, "capsule", radius=radii[0]))
     return ArmBodies(arm=arm, bodies=tuple(bodies), link_radii=radii, radii_assumed=assumed)
 
 

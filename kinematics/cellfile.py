@@ -35,12 +35,10 @@ from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
-from shapely.geometry import Polygon
-from shapely.validation import explain_validity
-
 from kinematics.atomic import write_atomic
 from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
+from kinematics.checks import choice_problem, polygon_problem
 
 __all__ = [
     "FORMAT",
@@ -391,11 +389,10 @@ def _text(value: Any, path: JsonPath, r: _Report, *, is_id: bool = False) -> str
 
 def _choice(value: Any, path: JsonPath, r: _Report, choices: Iterable[str]) -> str | None:
     """Check a string option; the message lists every valid choice."""
-    options = tuple(choices)
-    if isinstance(value, str) and value in options:
+    problem = choice_problem(value, choices)
+    if problem is None:
         return value
-    listed = ", ".join(json.dumps(c) for c in options[:-1]) + f" or {json.dumps(options[-1])}"
-    r.add(path, f"must be one of {listed}", value)
+    r.add(path, problem, value)
     return None
 
 
@@ -512,19 +509,6 @@ def _read_arm(value: Any, path: JsonPath, r: _Report) -> Arm | None:
     )
 
 
-def _polygon_problem(points: list[tuple[float, float]]) -> str | None:
-    poly = Polygon(points)
-    if poly.is_valid and poly.area > 0:
-        return None
-    reason = explain_validity(poly)
-    match = re.match(r"(.*?)\s*\[([-+\w.]+) ([-+\w.]+)\]\s*$", reason)
-    if match:
-        reason = f"{match.group(1)} at ({float(match.group(2)):g}, {float(match.group(3)):g})"
-    if poly.area <= 0:
-        return f"must enclose a non-zero area; the points fold back onto each other ({reason})"
-    return f"must be a simple polygon that does not cross or touch itself ({reason})"
-
-
 def _read_fixture(value: Any, path: JsonPath, r: _Report) -> Fixture | None:
     obj = _object(value, path, r)
     if obj is None:
@@ -546,7 +530,7 @@ def _read_fixture(value: Any, path: JsonPath, r: _Report) -> Fixture | None:
             pts = [_point(p, op + (i,), r) for i, p in enumerate(v)]
             if all(p is not None for p in pts):
                 outline = pts  # type: ignore[assignment]
-                problem = _polygon_problem(outline)
+                problem = polygon_problem(outline)
                 if problem:
                     r.add(op, problem, v)
     if (v := _optional(obj, "height")) is not _MISSING:

@@ -19,6 +19,7 @@ edge lines are equal (the maximum of a minimum of convex functions sits at such 
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from dataclasses import dataclass
 from functools import lru_cache
@@ -27,14 +28,14 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from .bodies import (
-    BASE,
     LINK1,
     TOOL,
     ArmBodies,
     Body,
+    PosedBody,
     arm_bodies,
-    frames,
     link_blocking,
+    pose,
     tool_blocking,
 )
 from .cell import Arm, Fixture
@@ -43,6 +44,7 @@ __all__ = [
     "FixtureSet",
     "PoseClearance",
     "pose_clearance",
+    "base_clearance",
     "arm_clearance",
     "segment_polygon_distance",
     "body_fixture_clearance",
@@ -498,56 +500,96 @@ def _polygon_sd(W: NDArray, V: NDArray, convex: bool = False) -> NDArray:
 
 @dataclass(frozen=True)
 class _Posed:
-    """One body at many poses: capsule ends or polygon vertices, and bounding boxes."""
+    """A posed body (:func:`kinematics.bodies.pose`) with what the search needs."""
 
     body: Body
-    a: NDArray | None  # (P, 2)
+    a: NDArray | None  # (P, 2) capsule segment ends (the whole capsule, trims ignored)
     b: NDArray | None
     W: NDArray | None  # (P, M, 2)
     bbox: NDArray  # (P, 4)
     half_min: NDArray  # (P,) no fixture point is deeper inside the body than this
+    cos: NDArray  # (P,) frame direction (for trimmed capsules)
+    sin: NDArray
 
 
-def _pose_bodies(ab: ArmBodies, q: NDArray, bodies: Sequence[Body]) -> list[_Posed]:
-    origin, angle = frames(ab.arm, q)
-    out = []
-    for body in bodies:
-        o = origin[:, body.frame]
-        c, s = np.cos(angle[:, body.frame]), np.sin(angle[:, body.frame])
-        if body.kind == "capsule":
-            ax, ay = body.a
-            bx, by = body.b
-            pa = o + np.stack([c * ax - s * ay, s * ax + c * ay], axis=-1)
-            pb = o + np.stack([c * bx - s * by, s * bx + c * by], axis=-1)
-            r = body.radius
-            bbox = np.concatenate([np.minimum(pa, pb) - r, np.maximum(pa, pb) + r], axis=1)
-            out.append(_Posed(body, pa, pb, None, bbox, np.full(len(q), np.inf)))
-        else:
-            assert body.outline is not None
-            lx, ly = body.outline[:, 0], body.outline[:, 1]
-            W = o[:, None, :] + np.stack(
-                [c[:, None] * lx - s[:, None] * ly, s[:, None] * lx + c[:, None] * ly], axis=-1
-            )
-            lo, hi = W.min(axis=1), W.max(axis=1)
-            out.append(
-                _Posed(
-                    body,
-                    None,
-                    None,
-                    W,
-                    np.concatenate([lo, hi], axis=1),
-                    0.5 * np.min(hi - lo, axis=1),
-                )
-            )
-    return out
+def _wrap(pb: PosedBody) -> _Posed:
+    if pb.W is not None:
+        lo, hi = pb.W.min(axis=1), pb.W.max(axis=1)
+        half = 0.5 * np.min(hi - lo, axis=1)
+    else:
+        half = np.full(len(pb), np.inf)
+    return _Posed(pb.body, pb.a, pb.b, pb.W, pb.bbox, half, pb.cos, pb.sin)
+
+
+def _pose_bodies(ab: ArmBodies, q: NDArray, indices: Sequence[int]) -> list[_Posed]:
+    return [_wrap(pb) for pb in pose(ab, q, indices)]
+
+
+def _trim_rows(
+    o: NDArray, c: NDArray, s: NDArray, r: NDArray, length: NDArray, fs: FixtureSet, f: NDArray
+) -> NDArray:
+    """What link 1's moving part adds to its shortened capsule, per row: the signed
+    distance of the two flanks beside the shoulder and of the shoulder disc's arc to
+    fixture ``f`` (0 when a fixture sits wholly between them).
+
+    Rows: shoulder ``o`` (n, 2), direction ``c``, ``s`` (n,), radius ``r`` (n,) (the
+    shoulder disc's too) and flank length ``length`` (n,) (twice the radius, or the link
+    length when shorter).
+    """
+    n = len(o)
+    sd = np.full(n, np.inf)
+    u = np.stack([c, s], axis=1)
+    nrm = np.stack([-s, c], axis=1)
+    for rows, V, convex in fs.vertices(f):
+        oo, uu, nn, rr, ll = o[rows], u[rows], nrm[rows], r[rows], length[rows]
+        best = np.full(len(rows), np.inf)
+        for sign in (1.0, -1.0):
+            a = oo + sign * rr[:, None] * nn
+            b = a + ll[:, None] * uu
+            d2, inter = _seg_poly(a, b, V)
+            val = np.sqrt(d2)
+            if inter.any():
+                k = np.flatnonzero(inter)
+                depth = _seg_depth_convex if convex else _seg_depth
+                val[k] = -depth(a[k], b[k], V[k])
+            np.minimum(best, val, out=best)
+        # The fixture's edges in the link frame, clipped to the half plane in front of the
+        # shoulder (x >= 0): their distance to the shoulder circle is the arc's distance
+        # (behind the shoulder the nearest arc points are the flank ends, counted above).
+        rx, ry = V[..., 0] - oo[:, 0:1], V[..., 1] - oo[:, 1:2]
+        x = rx * uu[:, 0:1] + ry * uu[:, 1:2]
+        y = ry * uu[:, 0:1] - rx * uu[:, 1:2]
+        x2, y2 = np.roll(x, -1, axis=1), np.roll(y, -1, axis=1)
+        dx, dy = x2 - x, y2 - y
+        with np.errstate(divide="ignore", invalid="ignore"):
+            tcut = np.where(dx != 0, -x / dx, 0.0)
+        px = np.where(x >= 0, x, x + tcut * dx)
+        py = np.where(x >= 0, y, y + tcut * dy)
+        qx = np.where(x2 >= 0, x2, x + tcut * dx)
+        qy = np.where(x2 >= 0, y2, y + tcut * dy)
+        some = (x >= 0) | (x2 >= 0)
+        ex, ey = qx - px, qy - py
+        ee = ex * ex + ey * ey
+        t = np.clip(np.divide(-(px * ex + py * ey), ee, out=np.zeros_like(ee), where=ee > 0), 0, 1)
+        dmin = np.hypot(px + t * ex, py + t * ey)
+        dmax = np.maximum(np.hypot(px, py), np.hypot(qx, qy))
+        rc = rr[:, None]
+        arc = np.where(dmin > rc, dmin - rc, np.where(dmax < rc, rc - dmax, 0.0))
+        arc = np.where(some, arc, np.inf).min(axis=1)
+        np.minimum(best, arc, out=best)
+        # A fixture wholly beside the link, between the flanks and the arc: touching.
+        vx, vy = x[:, 0], y[:, 0]
+        between = (vx >= 0) & (vx <= ll) & (np.abs(vy) <= rr) & (vx * vx + vy * vy >= rr * rr)
+        best = np.where(between, np.minimum(best, 0.0), best)
+        sd[rows] = best
+    return sd
 
 
 def _exact(posed: _Posed, fs: FixtureSet, p: NDArray, f: NDArray) -> NDArray:
     """Exact signed distances of one body at poses ``p`` to fixtures ``f`` (row pairs)."""
     sd = np.empty(len(p))
     if posed.body.kind == "capsule":
-        r = np.full(len(p), posed.body.radius)
-        return _capsules(posed.a[p], posed.b[p], r, fs, f)
+        return _exact_many([posed], fs, np.zeros(len(p), dtype=np.int64), p, f)
     else:
         for rows, V, convex in fs.vertices(f):
             sd[rows] = _polygon_sd(posed.W[p[rows]], V, convex)
@@ -592,7 +634,9 @@ def _lower_bounds(
         wx += wy
         np.sqrt(wx, out=wx)
         rad = fs.radius32[fidx]
-        np.add(wx, rad + f32(slack - r), out=upper)
+        # Link 1's moving part can lie up to two radii further off than its capsule.
+        extra = 2.0 * r if pb.body.trim > 0 else 0.0
+        np.add(wx, rad + f32(slack - r + extra), out=upper)
         wx -= rad + f32(r + slack)
         np.maximum(wx, (-(r + slack + fs.half_min[fidx])).astype(f32), out=out)
     else:
@@ -657,6 +701,8 @@ def _slice(pb: _Posed, sl: slice | NDArray[np.int64]) -> _Posed:
         None if pb.W is None else pb.W[sl],
         pb.bbox[sl],
         pb.half_min[sl],
+        pb.cos[sl],
+        pb.sin[sl],
     )
 
 
@@ -732,7 +778,12 @@ def _improve(cur, cur_b, cur_f, p, sd, b, f):  # noqa: ANN001, ANN202
 def _exact_many(
     posed: list[_Posed], fs: FixtureSet, jb: NDArray, p: NDArray, f: NDArray
 ) -> NDArray:
-    """Exact signed distances for rows (body jb, pose p, fixture f); capsules in one go."""
+    """Exact signed distances for rows (body jb, pose p, fixture f); capsules in one go.
+
+    Link 1's moving part (its capsule less the shoulder disc) is its capsule shortened
+    to start two radii out, plus the flanks and arc beside the shoulder
+    (:func:`_trim_rows`).
+    """
     sd = np.empty(len(p))
     is_cap = np.array([pb.body.kind == "capsule" for pb in posed])
     rows = np.flatnonzero(is_cap[jb])
@@ -742,7 +793,22 @@ def _exact_many(
         B = np.stack([pb.b if pb.b is not None else zero for pb in posed])
         R = np.array([pb.body.radius for pb in posed])
         a, b, r = A[jb[rows], p[rows]], B[jb[rows], p[rows]], R[jb[rows]]
+        trims = [j for j, pb in enumerate(posed) if pb.body.trim > 0]
+        if trims:
+            tr = np.isin(jb[rows], trims)
+            if tr.any():
+                k = np.flatnonzero(tr)
+                d = b[k] - a[k]
+                length = np.hypot(d[:, 0], d[:, 1])
+                cut = np.minimum(2.0 * r[k], length)
+                u = d / np.where(length > 0, length, 1.0)[:, None]
+                o = a[k].copy()
+                a = a.copy()
+                a[k] = o + cut[:, None] * u
+                extra = _trim_rows(o, u[:, 0], u[:, 1], r[k], cut, fs, f[rows[k]])
         sd[rows] = _capsules(a, b, r, fs, f[rows])
+        if trims and tr.any():
+            sd[rows[k]] = np.minimum(sd[rows[k]], extra)
     for j in np.flatnonzero(~is_cap):
         rj = np.flatnonzero(jb == j)
         if len(rj):
@@ -776,7 +842,11 @@ def pose_clearance(
     link_mask: ArrayLike,
     tool_mask: ArrayLike | None = None,
 ) -> PoseClearance:
-    """Clearance of the arm's bodies at poses ``q_deg`` against the blocking fixtures.
+    """Clearance of the arm's moving bodies at poses ``q_deg`` against blocking fixtures.
+
+    The moving bodies are link 1 outside the shoulder disc, link 2 and the tool; the base
+    (footprint or shoulder disc) is the same at every pose and is checked once by
+    :func:`base_clearance`.
 
     Parameters
     ----------
@@ -785,7 +855,7 @@ def pose_clearance(
     q_deg : array_like, shape S + (2,)
         Joint angles in degrees; rows with NaN give NaN clearance.
     link_mask : array_like of bool, shape (F,)
-        Fixtures blocking the links and the base (:func:`kinematics.bodies.link_blocking`).
+        Fixtures blocking the links (:func:`kinematics.bodies.link_blocking`).
     tool_mask : array_like of bool, shape (F,) or S + (F,), optional
         Fixtures blocking the tool (:func:`kinematics.bodies.tool_blocking`); default
         ``link_mask``.
@@ -809,26 +879,14 @@ def pose_clearance(
     best_f = np.full(n_all, -1, dtype=np.int64)
     best_b = np.full(n_all, -1, dtype=np.int64)
     valid = np.isfinite(q).all(axis=1)
-    moving = [k for k, b in enumerate(bodies.bodies) if b.frame != BASE]
-    static = [k for k, b in enumerate(bodies.bodies) if b.frame == BASE]
-
-    # The base never moves: one exact pass over its blocking fixtures serves every pose.
-    for k in static:
-        fidx = np.flatnonzero(link_mask)
-        if len(fidx) == 0:
-            continue
-        (posed,) = _pose_bodies(bodies, q[:1] * 0.0, [bodies.bodies[k]])
-        sd = _exact(posed, fixtures, np.zeros(len(fidx), dtype=np.int64), fidx)
-        j = int(np.argmin(sd))
-        better = valid & (sd[j] < best)
-        best[better], best_f[better], best_b[better] = sd[j], fidx[j], k
+    moving = list(bodies.moving_indices)
 
     vidx = np.flatnonzero(valid)
     tool_any = tmask if tmask.ndim == 1 else tmask.any(axis=0)
     cand = np.flatnonzero(link_mask | tool_any)
     if len(cand) and moving and len(vidx):
         qv = q[vidx]
-        posed = _pose_bodies(bodies, qv, [bodies.bodies[k] for k in moving])
+        posed = _pose_bodies(bodies, qv, moving)
         # Allowance for single-precision rounding in the broad phase (cell units).
         arm = bodies.arm
         span = max(float(np.max(np.abs(fixtures.bbox))), abs(arm.x) + abs(arm.y))
@@ -868,6 +926,30 @@ def pose_clearance(
         fixture=best_f.reshape(shape),
         body=best_b.reshape(shape),
     )
+
+
+def base_clearance(
+    bodies: ArmBodies, fixtures: FixtureSet, link_mask: ArrayLike
+) -> tuple[float, int]:
+    """Clearance of the arm's base (footprint or shoulder disc) to the fixtures blocking
+    the links: (signed distance, fixture index), (+inf, -1) when nothing blocks.
+
+    Examples
+    --------
+    A column 40 wide whose near face is 100 from the base; shoulder disc of radius 30.
+
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150), link_radii=(30, 20))
+    >>> col = FixtureSet([[(100, -20), (140, -20), (140, 20), (100, 20)]])
+    >>> base_clearance(arm_bodies(arm), col, [True])
+    (70.0, 0)
+    """
+    fidx = np.flatnonzero(np.asarray(link_mask, dtype=bool).reshape(fixtures.count))
+    if len(fidx) == 0:
+        return math.inf, -1
+    (posed,) = _pose_bodies(bodies, np.zeros((1, 2)), [bodies.base_index])
+    sd = _exact(posed, fixtures, np.zeros(len(fidx), dtype=np.int64), fidx)
+    j = int(np.argmin(sd))
+    return float(sd[j]), int(fidx[j])
 
 
 def arm_clearance(

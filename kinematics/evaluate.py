@@ -30,10 +30,10 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 from numpy.typing import NDArray
 
-from .bodies import ArmBodies, arm_bodies, clearance_margin, work_heights
+from .bodies import ArmBodies, arm_bodies, clearance_margin, link_blocking, work_heights
 from .cell import Arm, Cell, Fixture, Target
 from .cell import Sequence as Sequence_
-from .clearance import arm_clearance
+from .clearance import FixtureSet, arm_clearance, base_clearance
 from .ik import ELBOWS, REASONS, IKResult, Status, solve_arm
 
 __all__ = [
@@ -79,6 +79,12 @@ class ArmEvaluation:
         The fixtures checked.
     bodies : ArmBodies or None
         The arm's bodies (None for an arm evaluated without fixtures).
+    base_clearance : float
+        Clearance of the base (footprint or shoulder disc) to the fixtures blocking the
+        links: the same at every pose (+inf when nothing blocks). When it is 0 or less
+        every target fails with status BASE_OVERLAP.
+    base_fixture : int
+        Index into ``fixtures`` of the fixture nearest the base (-1 when none).
     """
 
     arm: Arm
@@ -99,6 +105,20 @@ class ArmEvaluation:
     score: NDArray[np.float64] = field(default_factory=lambda: np.zeros((0, 2)))
     fixtures: tuple[Fixture, ...] = ()
     bodies: ArmBodies | None = None
+    base_clearance: float = np.inf
+    base_fixture: int = -1
+
+    @property
+    def base_blocked_by(self) -> Fixture | None:
+        """The fixture the base overlaps (None when the base is clear)."""
+        if self.base_clearance > 0 or self.base_fixture < 0:
+            return None
+        return self.fixtures[self.base_fixture]
+
+    @property
+    def base_nearest(self) -> Fixture | None:
+        """The blocking fixture nearest the base (None when nothing blocks)."""
+        return self.fixtures[self.base_fixture] if self.base_fixture >= 0 else None
 
     def index(self, target_id: str) -> int:
         """Position of a target in this evaluation's arrays."""
@@ -114,6 +134,10 @@ class ArmEvaluation:
             f = self.blocking_fixture(i)
             if f is not None:
                 return f"{REASONS[st]} with {f.name}"
+        if st is Status.BASE_OVERLAP:
+            f = self.base_blocked_by
+            if f is not None:
+                return f"{REASONS[st]} {f.name}"
         return REASONS[st]
 
     def blocked_by(self, i: int, k: int) -> Fixture | None:
@@ -264,6 +288,11 @@ def evaluate_arm(
         bodies = arm_bodies(arm)
     if not fixtures:
         bodies = None
+    base_c, base_f = np.inf, -1
+    if bodies is not None:
+        base_c, base_f = base_clearance(
+            bodies, FixtureSet.of(fixtures), link_blocking(arm, fixtures, margin)
+        )
     if bodies is not None and n:
         wh = work_heights(targets, target_paths)
         res = arm_clearance(arm, fixtures, ik.q_deg, wh[:, None], margin, bodies)
@@ -276,9 +305,13 @@ def evaluate_arm(
         c_fix = c_body = np.full((n, 2), -1, dtype=np.int64)
         width = 1.0
     ok = ik.ok & ~collides
+    if base_c <= 0:
+        ok = np.zeros_like(ok)  # a base inside a fixture fails every target of the arm
     feasible = ok.any(axis=-1)
     chosen, score = choose_configuration(ok, ik.limit_margin_deg, clearance, width)
     status = np.where(ik.feasible & ~feasible, int(Status.COLLISION), ik.status)
+    if base_c <= 0:
+        status = np.full(n, int(Status.BASE_OVERLAP))
     return ArmEvaluation(
         arm=arm,
         target_ids=tuple(t.id for t in targets),
@@ -294,6 +327,8 @@ def evaluate_arm(
         score=score,
         fixtures=fixtures,
         bodies=bodies,
+        base_clearance=float(base_c),
+        base_fixture=int(base_f),
     )
 
 

@@ -17,6 +17,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from .angles import ANGLE_EPS, representative_and_margin
 from .cell import ELBOW_SETTINGS, Arm
+from .checks import check_choice
 
 __all__ = [
     "ELBOWS",
@@ -45,6 +46,7 @@ class Status(IntEnum):
     Q2_LIMIT = 4
     ELBOW_EXCLUDED = 5
     COLLISION = 6
+    BASE_OVERLAP = 7
 
 
 #: Short reason texts used in tables, reports and tooltips.
@@ -56,6 +58,7 @@ REASONS = {
     Status.Q2_LIMIT: "q2 limit",
     Status.ELBOW_EXCLUDED: "excluded by the arm's elbow setting",
     Status.COLLISION: "collides",
+    Status.BASE_OVERLAP: "base overlaps",
 }
 
 
@@ -82,10 +85,7 @@ def check_elbow_setting(elbow: str) -> str:
     >>> check_elbow_setting("any")
     'any'
     """
-    if elbow not in ELBOW_SETTINGS:
-        choices = ", ".join(repr(e) for e in ELBOW_SETTINGS)
-        raise ValueError(f"elbow setting must be one of {choices}, got {elbow!r}")
-    return elbow
+    return check_choice("elbow setting", elbow, ELBOW_SETTINGS)
 
 
 @dataclass(frozen=True)

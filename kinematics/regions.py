@@ -36,6 +36,7 @@ import shapely
 from shapely.geometry import MultiPolygon, Polygon
 
 from kinematics.cell import ELBOW_SETTINGS, Arm
+from kinematics.checks import check_choice
 
 __all__ = [
     "CONFIGURATIONS",
@@ -87,8 +88,7 @@ def _check_limits(name: str, limits: Sequence[float]) -> tuple[float, float]:
 
 
 def _check_elbow(elbow: str, allowed: Sequence[str]) -> None:
-    if elbow not in allowed:
-        raise ValueError(f"elbow must be one of {', '.join(allowed)}; got {elbow!r}")
+    check_choice("elbow", elbow, allowed)
 
 
 def _allowed(elbow: str) -> tuple[str, ...]:

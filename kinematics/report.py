@@ -131,6 +131,7 @@ def check_report(
     arms = []
     for arm in cell.arms:
         reg = arm_regions(arm, tol=tol)
+        aev = ev_all.arms[arm.id]
         arms.append(
             {
                 "id": arm.id,
@@ -140,6 +141,9 @@ def check_report(
                 "reachable_area": _num(reg.reachable.area, 3),
                 "both_elbows_area": _num(reg.both.area, 3),
                 "link_radii_assumed": arm.link_radii is None,
+                # The base never moves: its clearance is the same at every pose.
+                "base_clearance": _num(aev.base_clearance),
+                "base_blocked_by": _id(aev.base_blocked_by),
             }
         )
     # One lookup table: locating each target by search would make big cells quadratic.

@@ -37,6 +37,7 @@ from .bodies import (
     arm_bodies,
     clearance_margin,
     mechanical_limits,
+    pose,
 )
 from .cell import Arm, Cell, Target
 from .evaluate import evaluate_arm
@@ -234,7 +235,8 @@ def joint_box_space(
         else:
             core = shapely.Polygon(core_pts)
         if body.frame == BASE:
-            parts.append(core)
+            grow = body.radius
+            parts.append(outward_buffer(core, grow, _quad_segs(grow, tol)) if grow > 0 else core)
             continue
         slack = 0.0
         if body.frame != LINK1:
@@ -272,9 +274,8 @@ def _quad_segs(r: float, tol: float) -> int:
 
 
 def _core_at_zero(bodies: ArmBodies, body: Any) -> NDArray:
-    from .sweep import _core_points
-
-    return _core_points(bodies, body, np.zeros((1, 2)))[0]
+    k = bodies.bodies.index(body)
+    return pose(bodies, np.zeros((1, 2)), [k])[0].core[0]
 
 
 @dataclass(frozen=True)

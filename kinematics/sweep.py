@@ -40,8 +40,8 @@ from .bodies import (
     Body,
     arm_bodies,
     clearance_margin,
-    frames,
     link_blocking,
+    pose,
     tool_blocking,
     work_height,
 )
@@ -434,19 +434,8 @@ def outward_buffer(geom: Any, radius: float, quad_segs: int = QUAD_SEGS) -> Any:
 
 def _core_points(bodies: ArmBodies, body: Body, q: NDArray) -> NDArray:
     """World coordinates of a body's core points at poses q: (n, K, 2)."""
-    origin, angle = frames(bodies.arm, q)
-    o = origin[:, body.frame]
-    c, s = np.cos(angle[:, body.frame]), np.sin(angle[:, body.frame])
-    if body.kind == "capsule":
-        local = np.array([body.a, body.b], dtype=float)
-        if body.a == body.b:
-            local = local[:1]
-    else:
-        assert body.outline is not None
-        local = body.outline
-    x = o[:, None, 0] + c[:, None] * local[:, 0] - s[:, None] * local[:, 1]
-    y = o[:, None, 1] + s[:, None] * local[:, 0] + c[:, None] * local[:, 1]
-    return np.stack([x, y], axis=-1)
+    k = bodies.bodies.index(body)
+    return pose(bodies, q, [k])[0].core
 
 
 def _bow(bodies: ArmBodies, body: Body, delta_deg: tuple[float, float], n: int) -> float:
@@ -481,7 +470,7 @@ def swept_shapes(bodies: ArmBodies, path: JointPath, n: int | None = None) -> di
         pts = _core_points(bodies, body, q)
         grow = body.radius + _bow(bodies, body, path.delta, n)
         if body.frame == BASE:
-            core = shapely.Polygon(pts[0])
+            core = shapely.Polygon(pts[0]) if body.kind == "polygon" else shapely.Point(pts[0, 0])
         elif body.kind == "capsule" and body.a == body.b:
             core = shapely.LineString(pts[:, 0, :]) if n else shapely.Point(pts[0, 0])
         elif body.kind == "capsule":

@@ -15,6 +15,7 @@ from dataclasses import dataclass, replace
 
 from kinematics.cell import ELBOW_SETTINGS, Arm, Cell, Target
 from kinematics.cellfile import MAX_JOINT_RANGE_DEG, MAX_MAGNITUDE, CellFileError, dumps_cell
+from kinematics.checks import choice_problem
 
 __all__ = [
     "Invalid",
@@ -204,8 +205,9 @@ def arm_field(key: str) -> ArmField:
 
 def check_elbow(value: str) -> str:
     """An elbow setting from the choice list."""
-    if value not in ELBOW_SETTINGS:
-        raise Invalid(f"elbow setting must be one of {', '.join(ELBOW_SETTINGS)}, got {value!r}")
+    problem = choice_problem(value, ELBOW_SETTINGS)
+    if problem is not None:
+        raise Invalid(f"elbow setting {problem}, got {value!r}")
     return value
 
 

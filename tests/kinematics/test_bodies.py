@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 import pytest
+import shapely
 
 from kinematics.bodies import (
     DEFAULT_RADIUS_FRACTION,
@@ -40,13 +41,35 @@ def test_frames_reproduce_worked_example():
     assert angle[0].tolist() == pytest.approx([0, math.radians(4.64)] + [math.radians(41.27)] * 2)
 
 
-def test_default_bodies_are_capsules():
+def test_default_bodies_are_capsules_and_the_shoulder_disc():
     ab = arm_bodies(arm())
-    assert ab.names == ("link 1", "link 2")
-    assert [b.kind for b in ab.bodies] == ["capsule", "capsule"]
+    assert ab.names == ("link 1", "link 2", "base")
+    assert [b.kind for b in ab.bodies] == ["capsule", "capsule", "capsule"]
     assert ab.bodies[0].b == (400.0, 0.0) and ab.bodies[1].b == (250.0, 0.0)
     assert ab.link_radii == (30.0, 20.0) and not ab.radii_assumed
     assert not ab.has_tool
+    # The base is the shoulder disc of link 1's radius; link 1 moves outside it.
+    base = ab.base
+    assert base.a == base.b == (0.0, 0.0) and base.radius == 30.0 and not base.moving
+    assert ab.bodies[0].trim == 30.0 and ab.bodies[1].trim == 0.0
+    assert ab.moving_indices == (0, 1)
+
+
+def test_link_one_outline_is_its_capsule_less_the_shoulder_disc():
+    # Reference: shapely's difference of a finely polygonised capsule and disc; area by the
+    # closed form of a capsule (2 r L + pi r^2) less the disc (pi r^2) it contains, derived.
+    from kinematics.bodies import body_rings, pose
+
+    ab = arm_bodies(arm())
+    (link1,) = pose(ab, [[35.0, 0.0]], [0])
+    ring = body_rings(link1, 512)[0]
+    mine = shapely.Polygon(ring)
+    assert mine.is_valid
+    r, length = 30.0, 400.0
+    assert mine.area == pytest.approx(2 * r * length, rel=1e-5)
+    seg = shapely.LineString([(0, 0), 400 * np.array([math.cos(0.6109), math.sin(0.6109)])])
+    ref = seg.buffer(r, quad_segs=512).difference(shapely.Point(0, 0).buffer(r, quad_segs=512))
+    assert mine.symmetric_difference(ref).area < 1e-3 * mine.area
 
 
 def test_missing_radii_are_assumed_wide_not_zero():
@@ -100,7 +123,7 @@ def test_optional_bodies():
         ),
         (
             {"base_footprint": [[0, 0], [1, 1], [1, 0], [0, 1]]},
-            "arms[2].base_footprint: must be a simple polygon with an area",
+            "arms[2].base_footprint: must be a simple polygon that does not cross or touch itself",
         ),
         (
             {"mechanical_limits_deg": [[-160, 160], [-150, 150]]},

@@ -349,7 +349,12 @@ def test_tool_against_work_height():
     assert np.isinf(res.clearance[0])
 
 
-def test_base_footprint_blocks_at_every_pose():
+def test_base_footprint_is_checked_once_not_at_every_pose():
+    from kinematics.cell import Target
+    from kinematics.clearance import base_clearance
+    from kinematics.evaluate import evaluate_arm
+    from kinematics.ik import Status
+
     arm = Arm(
         "a",
         "A",
@@ -364,12 +369,19 @@ def test_base_footprint_blocks_at_every_pose():
         extra={"base_footprint": [[-80, -80], [80, -80], [80, 80], [-80, 80]]},
     )
     post = column(60, -10, 100, 10, height=2000, fid="post")
-    res = arm_clearance(arm, [post], [[90.0, 0.0], [-90.0, 0.0]])
-    assert res.collides.all()
-    assert {arm_bodies(arm).bodies[b].name for b in res.body} == {"base"}
+    ab = arm_bodies(arm)
     # The post's side x = 60 lies 20 inside the footprint (deeper than the footprint's
-    # side inside the post, 10), so the penetration is 20.
-    assert res.clearance == pytest.approx([-20.0, -20.0])
+    # side inside the post, 10), so the base's penetration is 20 (hand-derived).
+    assert base_clearance(ab, FixtureSet.of([post]), [True]) == (pytest.approx(-20.0), 0)
+    # The moving bodies: with link 1 straight up (or down) its flank x = 20 beside the
+    # shoulder is 40 from the post's side x = 60 (hand-derived); the base is not counted.
+    res = arm_clearance(arm, [post], [[90.0, 0.0], [-90.0, 0.0]])
+    assert res.clearance == pytest.approx([40.0, 40.0])
+    assert {ab.bodies[b].name for b in res.body} == {"link 1"}
+    # A base inside a fixture fails every target of the arm, naming the fixture.
+    ev = evaluate_arm(arm, [Target("t", "T", 0.0, 500.0, "a")], [post])
+    assert int(ev.status[0]) == Status.BASE_OVERLAP and not ev.feasible[0]
+    assert ev.reason(0) == "base overlaps Column C1" and ev.base_clearance == pytest.approx(-20)
 
 
 def test_nan_poses_and_no_blocking_fixtures():
@@ -415,7 +427,8 @@ def test_reach_and_limits_are_reported_before_collisions():
     from kinematics.ik import Status
 
     far = Target("far", "Far", 900.0, 0.0, "a")
-    ev = evaluate_arm(ARM, [far], [column(-2000, -2000, 2000, 2000, kind="keep-out")])
+    # A keep-out over everything right of the base (the base itself stays clear).
+    ev = evaluate_arm(ARM, [far], [column(100, -2000, 2000, 2000, kind="keep-out")])
     assert int(ev.status[0]) == Status.BEYOND_REACH and np.isnan(ev.clearance[0]).all()
 
 
@@ -502,3 +515,153 @@ def test_demo_cell_only_one_configuration_clears_the_column():
     for k, hits in ((0, False), (1, True)):
         shapes = ev.bodies.shapes(ev.ik.q_deg[i, k])
         assert any(s.intersects(col) for s in shapes.values()) == hits
+
+
+# ---------------------------------------------------------------------------------------
+# moving bodies and the base (link 1 outside the shoulder disc)
+
+
+def moving_reference(arm, ab, q, polys, mask, quad=128):
+    """Per pose: shapely distance from the moving bodies to the blocking fixtures, and
+    whether link 2 or the tool reach into the shoulder disc.
+
+    Reference geometry (shapely, GEOS): capsules are buffered segments, the tool a buffered
+    point, the shoulder disc a buffered point; link 1's moving part is its capsule less
+    the disc, cut to the half plane in front of the shoulder axis (the whole end cap
+    behind it lies in the disc). The polygonisation leaves every arc within
+    r * (1 - cos(pi / (4 * quad))) of the true one (5.6e-4 at r = 30, quad = 128).
+    """
+    r1, r2 = ab.link_radii
+    tool_r = next(b.radius for b in ab.bodies if b.name == "tool")
+    geoms = [shapely.Polygon(p) for p, m in zip(polys, mask) if m]
+    out = np.full(len(q), np.inf)
+    folded = np.zeros(len(q), dtype=bool)
+    for i, qi in enumerate(q):
+        t1 = math.radians(arm.heading_deg + qi[0])
+        t12 = t1 + math.radians(qi[1])
+        s = np.array([arm.x, arm.y])
+        u = np.array([math.cos(t1), math.sin(t1)])
+        n = np.array([-u[1], u[0]])
+        e = s + arm.a1 * u
+        t = e + arm.a2 * np.array([math.cos(t12), math.sin(t12)])
+        disc = shapely.Point(s).buffer(r1, quad_segs=quad)
+        far = arm.a1 + 2 * r1
+        front = shapely.Polygon(
+            [s - 2 * r1 * n, s + far * u - 2 * r1 * n, s + far * u + 2 * r1 * n, s + 2 * r1 * n]
+        )
+        link1 = shapely.LineString([s, e]).buffer(r1, quad_segs=quad)
+        rest = shapely.union_all(
+            [
+                shapely.LineString([e, t]).buffer(r2, quad_segs=quad),
+                shapely.Point(t).buffer(tool_r, quad_segs=quad),
+            ]
+        )
+        folded[i] = rest.intersects(disc)
+        moving = shapely.union_all(
+            [link1.difference(disc).intersection(front), rest.difference(disc)]
+        )
+        out[i] = min((shapely.distance(moving, g) for g in geoms), default=np.inf)
+    return out, folded
+
+
+@pytest.mark.parametrize("a2", [250.0, 400.0])
+def test_moving_bodies_clearance_matches_shapely_on_random_poses(a2):
+    # a2 = a1: link 2 and the tool fold back over the shoulder disc at some poses.
+    rng = np.random.default_rng(20261204)
+    arm = Arm(
+        "a",
+        "A",
+        10.0,
+        -20.0,
+        25.0,
+        400.0,
+        a2,
+        (-178, 178),
+        (-178, 178),
+        link_radii=(30.0, 20.0),
+        extra={"tool_body": {"radius": 25.0}},
+    )
+    ab = arm_bodies(arm)
+    # Fixtures all round the shoulder (just outside its disc, where only the link's flanks
+    # can come near) and further out.
+    polys = []
+    while len(polys) < 4:
+        ang, dist = rng.uniform(0, 2 * np.pi), rng.uniform(45.0, 110.0)
+        centre = (arm.x + dist * math.cos(ang), arm.y + dist * math.sin(ang))
+        p = random_polygon(rng, centre, rng.uniform(4.0, 8.0), convex=bool(rng.random() < 0.5))
+        if p is not None and shapely.Polygon(p).distance(shapely.Point(arm.x, arm.y)) > 31.0:
+            polys.append(p)
+    polys += random_fixtures(rng, 12, 700.0, (15.0, 50.0))
+    mask = np.ones(len(polys), dtype=bool)
+    mask[rng.random(len(polys)) < 0.15] = False
+    q = np.c_[rng.uniform(-178, 178, 1200), rng.uniform(-178, 178, 1200)]
+    res = pose_clearance(ab, FixtureSet(polys), q, mask)
+    ref, folded = moving_reference(arm, ab, q, polys, mask)
+    tol = 1e-3  # above the polygonisation error of the reference (5.6e-4 at r = 30)
+    clear = ref > tol
+    assert clear.sum() > 300 and (ref <= 0).sum() > 150
+    # Exact where link 2 and the tool stay out of the shoulder disc ...
+    ok = clear & ~folded
+    assert np.max(np.abs(res.clearance[ok] - ref[ok])) < tol
+    # ... and never above the reference where they fold over it (counted whole there).
+    assert np.all(res.clearance[clear & folded] <= ref[clear & folded] + tol)
+    assert folded.any() == (a2 > 300)
+    # Collisions agree (away from touching, within the reference's error).
+    sure = np.abs(ref) > tol
+    assert np.array_equal(res.collides[sure], ref[sure] <= 0)
+    # The shoulder disc matters: many poses would report less with link 1's whole capsule.
+    whole = np.array(
+        [
+            min(
+                shapely.distance(
+                    shapely.LineString(
+                        [
+                            (arm.x, arm.y),
+                            (
+                                arm.x + 400 * math.cos(math.radians(25 + a)),
+                                arm.y + 400 * math.sin(math.radians(25 + a)),
+                            ),
+                        ]
+                    ),
+                    shapely.Polygon(p),
+                )
+                - 30.0
+                for p, m in zip(polys, mask)
+                if m
+            )
+            for a in q[:, 0]
+        ]
+    )
+    assert np.count_nonzero(whole < ref - 1.0) > 60
+
+
+def test_base_clearance_matches_shapely():
+    from kinematics.clearance import base_clearance
+
+    rng = np.random.default_rng(7)
+    polys = random_fixtures(rng, 40, 200.0, (10.0, 50.0))
+    fs = FixtureSet(polys)
+    for k in range(40):
+        x, y, h = rng.uniform(-150, 150), rng.uniform(-150, 150), rng.uniform(-180, 180)
+        foot = None if k % 2 else [[-60, -40], [70, -40], [70, 40], [-60, 40]]
+        extra = {} if foot is None else {"base_footprint": foot}
+        arm = Arm(
+            "a", "A", x, y, h, 400, 250, (-170, 170), (-150, 150), link_radii=(35, 20), extra=extra
+        )
+        mask = rng.random(len(polys)) < 0.7
+        c, f = base_clearance(arm_bodies(arm), fs, mask)
+        if foot is None:
+            # shapely: point-to-polygon distance less the disc's radius (exact identity).
+            base = shapely.Point(x, y)
+            ref = [shapely.distance(base, shapely.Polygon(p)) - 35.0 for p in polys]
+        else:
+            cs, sn = math.cos(math.radians(h)), math.sin(math.radians(h))
+            pts = [(x + cs * a - sn * b, y + sn * a + cs * b) for a, b in foot]
+            base = shapely.Polygon(pts)
+            ref = [shapely.distance(base, shapely.Polygon(p)) for p in polys]
+        ref = np.where(mask, ref, np.inf)
+        j = int(np.argmin(ref))
+        if ref[j] > 1e-9:
+            assert c == pytest.approx(ref[j], abs=1e-9) and f == j
+        else:
+            assert c <= 1e-9

@@ -170,7 +170,7 @@ def test_multi_turn_shoulder_representative_nearest_middle():
 
 
 def test_elbow_setting_is_checked():
-    with pytest.raises(ValueError, match="'any', 'positive', 'negative'"):
+    with pytest.raises(ValueError, match='"any", "positive" or "negative", got \'up\''):
         solve(1.0, 1.0, 1.0, 1.0, elbow="up")
 
 

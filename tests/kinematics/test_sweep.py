@@ -277,13 +277,14 @@ def test_cell_moves_report_reasons():
 
 
 def test_plateau_of_clearance_stays_cheap():
-    # Link 1 turning about the base next to a post behind the base: the nearest body point
-    # is the link's end cap at the base, so the clearance is constant along the move.
+    # Link 2 turning about the elbow (link 1 still along +x) next to a post just beyond the
+    # elbow: the nearest body point is link 1's end cap at the elbow, so the clearance is
+    # constant along the move (60 from the elbow less link 1's radius 25).
     ab = arm_bodies(ARM)
-    post = np.array([[-100, -20], [-60, -20], [-60, 20], [-100, 20]], dtype=float)
+    post = np.array([[460, -20], [500, -20], [500, 20], [460, 20]], dtype=float)
     calls = []
     fs = FixtureSet([post])
-    path = joint_path(ARM, (-60.0, 30.0), (60.0, 30.0))
+    path = joint_path(ARM, (0.0, 90.0), (0.0, 150.0))
     import kinematics.sweep as sw_mod
 
     real = sw_mod.pose_clearance
