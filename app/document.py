@@ -127,6 +127,8 @@ class _Events:
     cell_changed: Signal = field(default_factory=Signal)  # (Changes)
     path_changed: Signal = field(default_factory=Signal)  # (Path | None)
     dirty_changed: Signal = field(default_factory=Signal)  # (bool)
+    # Step-by-step changes (a drag) paused or ended: views finish what waits for a pause.
+    changes_paused: Signal = field(default_factory=Signal)  # ()
 
 
 class Document:
@@ -135,6 +137,12 @@ class Document:
     ``push`` is the single way to change the cell; by default it applies the
     edit directly, and the window replaces it with a function that puts the edit
     on its undo stack (which then calls :meth:`apply`).
+
+    The document owns the one engine evaluation every view reads (:attr:`evaluation`):
+    computed once per state, on first use, from the previous one (only arms a change
+    touches are evaluated again). While a drag steps (:meth:`preview`) views draw what
+    must follow every step; :meth:`settle` (called when the steps pause or the drag
+    ends) emits ``events.changes_paused`` for what waits for a pause.
     """
 
     def __init__(self, cell: Cell, path: Path | None = None) -> None:
@@ -144,7 +152,9 @@ class Document:
         self._saved = cell
         self._path = path
         self._evaluation: CellEvaluation | None = None
+        self._last_evaluation: CellEvaluation | None = None
         self._preview_base: Cell | None = None
+        self._unsettled = False
         self.push: Callable[[Edit], None] = lambda e: self.apply(e.after)
 
     @property
@@ -163,8 +173,19 @@ class Document:
     def evaluation(self) -> CellEvaluation:
         """Engine results for the current cell, computed once per change."""
         if self._evaluation is None or self._evaluation.cell is not self._cell:
-            self._evaluation = evaluate_cell(self._cell)
+            self._evaluation = evaluate_cell(self._cell, previous=self._last_evaluation)
+            self._last_evaluation = self._evaluation
         return self._evaluation
+
+    @property
+    def unsettled(self) -> bool:
+        """True while step-by-step changes have not paused yet (see :meth:`settle`)."""
+        return self._unsettled
+
+    def settle(self) -> None:
+        """The steps of a drag paused or ended: tell views to finish what waits for it."""
+        self._unsettled = False
+        self.events.changes_paused.emit()
 
     def edit(self, label: str, after: Cell, merge_key: str | None = None) -> None:
         """Propose a change; it goes through :attr:`push` (the undo stack when there is one)."""
@@ -182,6 +203,7 @@ class Document:
         """Show ``cell`` live during a drag without recording an undo step."""
         if self._preview_base is None:
             self._preview_base = self._cell
+        self._unsettled = True
         self.apply(cell)
 
     def commit_preview(self, label: str) -> None:
@@ -189,12 +211,14 @@ class Document:
         base, self._preview_base = self._preview_base, None
         if base is not None and base != self._cell:
             self.push(Edit(label, base, self._cell))
+        self.settle()
 
     def cancel_preview(self) -> None:
         """End a drag by restoring the state from before it (Esc)."""
         base, self._preview_base = self._preview_base, None
         if base is not None:
             self.apply(base)
+        self.settle()
 
     def apply(self, cell: Cell) -> None:
         """Make ``cell`` current and notify observers (used by undo/redo and loading)."""
@@ -212,6 +236,7 @@ class Document:
         """Load a different document (new or opened file); it starts clean."""
         self._saved = cell
         self.selection.clear()
+        self._last_evaluation = None  # a different document shares no caches
         self.apply(cell)
         self.set_path(path)
         self.events.dirty_changed.emit(False)

@@ -35,7 +35,8 @@ from app.document import Changes, Document
 from app.panels.arm_panel import ArmPanel
 from app.panels.problems import ProblemsList
 from app.panels.target_table import TargetTable
-from app.panels.text import cursor_text, hover_text
+from app.panels.text import cursor_text, hover_text, summary_text
+from app.pause import pause_timer
 from kinematics.caution import CAUTION_FULL, CAUTION_SHORT
 from kinematics.cell import Arm, Cell
 from kinematics.cellfile import CellFileError, load_cell, save_cell
@@ -102,6 +103,8 @@ class MainWindow(QMainWindow):
         self.setObjectName("main_window")
         self.undo_stack = QUndoStack(self)
         attach_undo_stack(self.document, self.undo_stack)
+        # The one "changes paused" clock every view waits for.
+        self.pause = pause_timer(self.document)
 
         self.canvas = CellCanvas(self.document, self)
         self.canvas.setObjectName("canvas")
@@ -332,11 +335,8 @@ class MainWindow(QMainWindow):
         self.problems_dock.setWindowTitle(f"Problems ({n})" if n else "Problems (none)")
 
     def _show_summary(self) -> None:
-        evaluation = self.document.evaluation
-        total = len(evaluation.cell.targets)
-        bad = self.problems.failing_targets  # moves are listed too; this counts targets
-        text = f"{total} targets: {total - bad} ok, {bad} fail" if total else "No targets yet"
-        self.hover_label.setText(text)
+        # The shared evaluation of the current state (never a count kept elsewhere).
+        self.hover_label.setText(summary_text(self.document.evaluation))
 
     def _on_cursor(self, x: float, y: float) -> None:
         self.cursor_label.setText(cursor_text(x, y, self.document.cell.units))

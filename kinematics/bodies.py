@@ -286,6 +286,16 @@ class ArmBodies:
         return any(b.frame == TOOL for b in self.bodies)
 
     @property
+    def reach(self) -> float:
+        """Largest distance from the base any body point can reach (at any pose)."""
+        arm = self.arm
+        out = 0.0
+        for b in self.bodies:
+            lead = {BASE: 0.0, LINK1: 0.0, LINK2: arm.a1, TOOL: arm.a1 + arm.a2}[b.frame]
+            out = max(out, lead + b.extent)
+        return out
+
+    @property
     def base_index(self) -> int:
         """Index of the base body (always the last)."""
         return len(self.bodies) - 1

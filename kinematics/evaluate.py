@@ -26,11 +26,18 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
-from .bodies import ArmBodies, arm_bodies, clearance_margin, link_blocking, work_heights
+from .bodies import (
+    ArmBodies,
+    arm_bodies,
+    clearance_margin,
+    link_blocking,
+    work_heights,
+)
 from .cell import Arm, Cell, Fixture, Target
 from .cell import Sequence as Sequence_
 from .clearance import FixtureSet, arm_clearance, base_clearance
@@ -40,6 +47,8 @@ __all__ = [
     "LIMIT_MARGIN_UNIT_DEG",
     "ArmEvaluation",
     "CellEvaluation",
+    "EvaluationStore",
+    "fixtures_in_reach",
     "evaluate_arm",
     "evaluate_cell",
     "evaluate_cell_arm",
@@ -107,6 +116,7 @@ class ArmEvaluation:
     bodies: ArmBodies | None = None
     base_clearance: float = np.inf
     base_fixture: int = -1
+    inputs: tuple | None = field(default=None, repr=False, compare=False)
 
     @property
     def base_blocked_by(self) -> Fixture | None:
@@ -154,14 +164,34 @@ class ArmEvaluation:
         j = int(self.clearance_body[i, k])
         return self.bodies.bodies[j].name if j >= 0 else None
 
+    def closest(self, i: int) -> int:
+        """The configuration that comes closest for target ``i`` (the one every report,
+        table and drawing of a failing target shows).
+
+        The chosen configuration when there is one; for a target turned down by collisions
+        the within-limit, allowed configuration with the larger clearance; otherwise the
+        allowed configuration with the larger limit margin (the positive one on a tie).
+        """
+        c = int(self.chosen[i])
+        if c >= 0:
+            return c
+        if int(self.status[i]) == Status.COLLISION:
+            cands = [k for k in range(2) if bool(self.ik.ok[i, k]) and bool(self.collides[i, k])]
+            if cands:
+                return max(cands, key=lambda k: float(self.clearance[i, k]))
+        m = [
+            float(self.ik.limit_margin_deg[i, k]) if bool(self.ik.allowed[i, k]) else -np.inf
+            for k in range(2)
+        ]
+        m = [-np.inf if np.isnan(v) else v for v in m]
+        return 0 if m[0] >= m[1] else 1
+
     def blocking_fixture(self, i: int) -> Fixture | None:
         """For a target turned down by collisions: the fixture hit by the configuration
-        that comes closest (the allowed, within-limit one with the larger clearance)."""
-        cands = [k for k in range(2) if bool(self.ik.ok[i, k]) and bool(self.collides[i, k])]
-        if not cands:
+        that comes closest (:meth:`closest`)."""
+        if int(self.status[i]) != Status.COLLISION:
             return None
-        k = max(cands, key=lambda c: float(self.clearance[i, c]))
-        return self.blocked_by(i, k)
+        return self.blocked_by(i, self.closest(i))
 
     def chosen_elbow(self, i: int) -> str | None:
         """Name of the chosen configuration, "both" at a singular pose, None when infeasible."""
@@ -171,13 +201,42 @@ class ArmEvaluation:
         return "both" if bool(self.ik.singular[i]) else ELBOWS[c]
 
 
+class EvaluationStore:
+    """Caches shared by successive evaluations of a changing cell.
+
+    Each entry is keyed by everything it depends on, so a reused entry is exactly what a
+    fresh computation would give: moves (:class:`kinematics.moves.MoveCache`), arm spaces
+    in the base frame, operating spaces, shared zones and the targets each arm could
+    serve.
+    """
+
+    def __init__(self) -> None:
+        from .moves import MoveCache
+
+        self.moves = MoveCache()
+        self.local_spaces: dict[tuple, Any] = {}
+        self.operating: dict[str, tuple[tuple, Any]] = {}
+        self.zones: dict[tuple, tuple[tuple, Any]] = {}
+        self.serves: dict[str, tuple[tuple, Any]] = {}
+
+
 @dataclass(frozen=True)
 class CellEvaluation:
-    """Per-arm evaluations of a whole cell."""
+    """The engine's whole answer for one state of a cell.
+
+    Per-arm target verdicts (``arms``) are computed when the evaluation is made; what
+    costs more is computed on first use and kept: :meth:`moves` (clearance along every
+    sequence move), :meth:`spaces` (maximum, restricted and operating spaces, shared
+    zones) and :meth:`shared_targets`. Evaluations made with ``previous``
+    (:func:`evaluate_cell`) share caches with it, so unchanged parts are never computed
+    twice.
+    """
 
     cell: Cell
     arms: dict[str, ArmEvaluation]
+    store: EvaluationStore = field(default_factory=EvaluationStore, repr=False, compare=False)
     _where: dict[str, tuple[str, int]] = field(default_factory=dict, repr=False, compare=False)
+    _memo: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         for arm_id, ev in self.arms.items():
@@ -188,6 +247,48 @@ class CellEvaluation:
         """The arm evaluation holding a target and the target's index in it."""
         arm_id, i = self._where[target_id]
         return self.arms[arm_id], i
+
+    def counts(self) -> tuple[int, int]:
+        """(feasible, total) targets of the cell (targets of missing arms fail)."""
+        ok = sum(int(np.count_nonzero(ev.feasible)) for ev in self.arms.values())
+        return ok, len(self.cell.targets)
+
+    def moves(self, polygons: bool = False, compute: bool = True) -> list[Any]:
+        """Every sequence move (:class:`kinematics.sweep.MoveResult`), in sequence order.
+
+        ``polygons`` also builds swept areas; with ``compute=False`` only moves already
+        known for this state are returned (a quick look during a drag).
+        """
+        key = f"moves:{polygons}"
+        if key in self._memo:
+            return self._memo[key]
+        found = self.store.moves.lookup(self.cell, self, polygons, compute=compute)
+        out = [m for _k, m in found if m is not None]
+        if compute or len(out) == len(found):
+            self._memo[key] = out
+        return out
+
+    def spaces(self, operating: bool = True) -> Any:
+        """Spaces of every arm and the shared zones (:class:`kinematics.spaces.CellSpaces`).
+
+        With ``operating=False`` the operating spaces (unions of the moves' swept areas)
+        and the zones made of them are left out: the rest is cheap enough for every step
+        of a drag.
+        """
+        key = f"spaces:{operating}"
+        if key not in self._memo:
+            from .spaces import evaluation_spaces
+
+            self._memo[key] = evaluation_spaces(self, operating)
+        return self._memo[key]
+
+    def shared_targets(self) -> dict[str, tuple[str, ...]]:
+        """Targets (of any arm) that two or more arms can reach clear of fixtures."""
+        if "shared" not in self._memo:
+            from .spaces import evaluation_shared_targets
+
+            self._memo["shared"] = evaluation_shared_targets(self)
+        return self._memo["shared"]
 
 
 def choose_configuration(
@@ -369,29 +470,109 @@ def unify_sequences(ev: ArmEvaluation, sequences: Iterable[Sequence_]) -> ArmEva
     return replace(ev, chosen=chosen)
 
 
-def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
-    """:func:`evaluate_arm` for one arm of a cell: its targets, the cell's fixtures and margin.
+def fixtures_in_reach(bodies: ArmBodies, fixtures: Sequence[Fixture]) -> tuple[Fixture, ...]:
+    """The fixtures some body of the arm could touch at some pose (in file order).
 
-    The canvas re-evaluates one arm per drag step through this, so it sees collisions
-    exactly as ``check`` does. Messages about malformed keys name the file's JSON paths.
+    A fixture counts when its bounding circle comes within the arm's reach of the base
+    (:attr:`kinematics.bodies.ArmBodies.reach`): farther ones can neither collide nor be
+    the nearest fixture of a collision, so clearances are measured to these only.
+
+    Examples
+    --------
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150), link_radii=(20, 15))
+    >>> near = Fixture("n", "Near", "column", ((600, 0), (640, 0), (640, 40), (600, 40)))
+    >>> far = Fixture("f", "Far", "column", ((900, 0), (940, 0), (940, 40), (900, 40)))
+    >>> [f.id for f in fixtures_in_reach(arm_bodies(arm), [near, far])]
+    ['n']
     """
-    i = next((k for k, a in enumerate(cell.arms) if a.id == arm.id), None)
-    bodies = arm_bodies(arm, f"arms[{i}]" if i is not None else f"arms[id={arm.id!r}]")
+    fixtures = tuple(fixtures)
+    if not fixtures:
+        return ()
+    fs = FixtureSet.of(fixtures)
+    arm = bodies.arm
+    d = np.hypot(fs.centre[:, 0] - arm.x, fs.centre[:, 1] - arm.y) - fs.radius
+    keep = d <= bodies.reach
+    if keep.all():
+        return fixtures
+    return tuple(f for f, k in zip(fixtures, keep) if k)
+
+
+def _arm_inputs(cell: Cell, arm: Arm, bodies: ArmBodies) -> tuple:
+    """Everything one arm's evaluation depends on (equal inputs give an equal evaluation)."""
+    return (
+        arm,
+        tuple(t for t in cell.targets if t.arm == arm.id),
+        fixtures_in_reach(bodies, cell.fixtures),
+        cell.extra.get("clearance_margin"),
+        tuple(q for q in cell.sequences if q.arm == arm.id),
+    )
+
+
+def evaluate_cell_arm(
+    cell: Cell, arm: Arm, inputs: tuple | None = None, bodies: ArmBodies | None = None
+) -> ArmEvaluation:
+    """:func:`evaluate_arm` for one arm of a cell: its targets, the fixtures within its
+    reach and the cell's margin, then one configuration per sequence where one fits.
+
+    Messages about malformed keys name the file's JSON paths.
+    """
+    if bodies is None:
+        i = next((k for k, a in enumerate(cell.arms) if a.id == arm.id), None)
+        bodies = arm_bodies(arm, f"arms[{i}]" if i is not None else f"arms[id={arm.id!r}]")
+    if inputs is None:
+        inputs = _arm_inputs(cell, arm, bodies)
     picked = [(j, t) for j, t in enumerate(cell.targets) if t.arm == arm.id]
     ev = evaluate_arm(
         arm,
         [t for _, t in picked],
-        cell.fixtures,
+        inputs[2],
         clearance_margin(cell),
         bodies=bodies,
         target_paths=[f"targets[{j}]" for j, _ in picked],
     )
+    if ev.bodies is None:
+        ev = replace(ev, bodies=bodies)
     return unify_sequences(ev, cell.sequences) if cell.sequences else ev
 
 
-def evaluate_cell(cell: Cell) -> CellEvaluation:
-    """Evaluate every arm of a cell against the targets assigned to it and the fixtures."""
-    return CellEvaluation(
-        cell=cell,
-        arms={arm.id: evaluate_cell_arm(cell, arm) for arm in cell.arms},
-    )
+def evaluate_cell(cell: Cell, previous: CellEvaluation | None = None) -> CellEvaluation:
+    """Evaluate every arm of a cell against the targets assigned to it and the fixtures.
+
+    Parameters
+    ----------
+    cell : Cell
+    previous : CellEvaluation, optional
+        The evaluation of an earlier state of the same document: arms whose inputs (the
+        arm, its targets and sequences, the fixtures within its reach, the margin) did not
+        change are taken over as they are, and its caches (moves, spaces) are shared.
+
+    Examples
+    --------
+    Moving one arm's base re-evaluates that arm only.
+
+    >>> from dataclasses import replace as with_
+    >>> a = Arm("a", "A", 0, 0, 0, 400, 250, (-170, 170), (-150, 150))
+    >>> b = Arm("b", "B", 2000, 0, 0, 400, 250, (-170, 170), (-150, 150))
+    >>> ts = (Target("p", "P", 300, 400, "a"), Target("q", "Q", 2300, 400, "b"))
+    >>> one = evaluate_cell(Cell("c", arms=(a, b), targets=ts))
+    >>> two = evaluate_cell(Cell("c", arms=(with_(a, x=10.0), b), targets=ts), previous=one)
+    >>> two.arms["b"] is one.arms["b"], two.arms["a"] is one.arms["a"]
+    (True, False)
+    """
+    store = previous.store if previous is not None else EvaluationStore()
+    old = previous.arms if previous is not None else {}
+    arms = {}
+    for i, arm in enumerate(cell.arms):
+        prev = old.get(arm.id)
+        # The same arm object has the same bodies: skip building them again.
+        if prev is not None and prev.arm is arm and prev.bodies is not None:
+            bodies = prev.bodies
+        else:
+            bodies = arm_bodies(arm, f"arms[{i}]")
+        inputs = _arm_inputs(cell, arm, bodies)
+        if prev is not None and prev.inputs == inputs:
+            arms[arm.id] = prev
+            continue
+        ev = evaluate_cell_arm(cell, arm, inputs, bodies)
+        arms[arm.id] = replace(ev, inputs=inputs)
+    return CellEvaluation(cell=cell, arms=arms, store=store)

@@ -11,10 +11,10 @@ from typing import Any
 from .caution import CAUTION_SHORT
 from .cell import Cell
 from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
-from .ik import ELBOWS, Status
+from .ik import ELBOWS
 from .regions import arm_regions
-from .spaces import cell_spaces
-from .sweep import MoveResult, cell_moves
+from .sweep import MoveResult
+from .wording import FEASIBLE, target_reason
 
 __all__ = ["REGION_TOL_MM", "check_report", "format_check_table"]
 
@@ -57,6 +57,12 @@ def _solutions(ev: ArmEvaluation, i: int) -> list[dict[str, Any]]:
     return out
 
 
+def _shown_elbow(ev: ArmEvaluation, i: int) -> str | None:
+    if not bool(ev.ik.reachable[i]):
+        return None
+    return "both" if bool(ev.ik.singular[i]) else ELBOWS[ev.closest(i)]
+
+
 def _id(fixture: Any) -> str | None:
     return None if fixture is None else fixture.id
 
@@ -75,24 +81,6 @@ def _moves(moves: list[MoveResult]) -> list[dict[str, Any]]:
         }
         for m in moves
     ]
-
-
-def _reason(ev: ArmEvaluation, i: int, units: str) -> str | None:
-    if bool(ev.feasible[i]):
-        return None
-    text = ev.reason(i)
-    m = float(ev.ik.reach_margin[i])
-    if not bool(ev.ik.reachable[i]):
-        return f"{text} by {abs(m):.1f} {units}"
-    ik = ev.ik
-    if int(ev.status[i]) in (Status.Q1_LIMIT, Status.Q2_LIMIT):
-        # The allowed configuration that comes closest tells how far the joint must go.
-        margins = [float(ik.limit_margin_deg[i, k]) for k in (0, 1) if bool(ik.allowed[i, k])]
-        return f"{text} by {abs(max(margins)):.1f} deg"
-    if int(ev.status[i]) == Status.ELBOW_EXCLUDED:
-        fits = [ELBOWS[k] for k in (0, 1) if bool(ik.within_limits[i, k].all())]
-        return f"{text} (only {' or '.join(fits)} fits)"
-    return text  # a collision names the fixture: "collides with <fixture name>"
 
 
 def check_report(
@@ -160,14 +148,17 @@ def check_report(
                 "y": _num(t.y),
                 "feasible": bool(ev.feasible[i]),
                 "chosen_elbow": ev.chosen_elbow(i),
-                "reason": _reason(ev, i, cell.units),
+                # The configuration the row's numbers and reason are about (the chosen one,
+                # or the one that comes closest for a failing target).
+                "shown_elbow": _shown_elbow(ev, i),
+                "reason": target_reason(ev, i, cell.units) or None,
                 "reach_margin": _num(ev.ik.reach_margin[i]),
                 "solutions": _solutions(ev, i),
             }
         )
     if moves is None:
-        moves = cell_moves(cell, ev_all)
-    spaces = cell_spaces(cell, ev_all, moves)
+        moves = ev_all.moves()
+    spaces = ev_all.spaces()
     for a in arms:
         sp = spaces.arms[a["id"]]
         a["spaces"] = {
@@ -254,18 +245,13 @@ def format_check_table(report: dict[str, Any]) -> str:
         )
     ]
     for t in report["targets"]:
-        sol = None
-        if t["chosen_elbow"] is not None:
-            sol = next(s for s in t["solutions"] if s["elbow"] == t["chosen_elbow"])
-        elif t["solutions"]:  # the configuration that comes closest, to show by how much
-            allowed = [s for s in t["solutions"] if s["allowed"]] or t["solutions"]
-            sol = max(allowed, key=lambda s: s["limit_margin_deg"])
+        sol = next((s for s in t["solutions"] if s["elbow"] == t.get("shown_elbow")), None)
         rows.append(
             (
                 "ok" if t["feasible"] else "XX",
                 _plain(t["id"]),
                 _plain(t["arm"]),
-                "reach" if t["feasible"] else "FAIL",
+                FEASIBLE if t["feasible"] else "FAILS",
                 t["chosen_elbow"] or "-",
                 _fmt(sol["q_deg"][0]) if sol else "-",
                 _fmt(sol["q_deg"][1]) if sol else "-",

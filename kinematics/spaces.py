@@ -23,7 +23,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -40,7 +40,7 @@ from .bodies import (
     pose,
 )
 from .cell import Arm, Cell, Target
-from .evaluate import evaluate_arm
+from .evaluate import evaluate_arm, fixtures_in_reach
 from .sweep import MoveResult, cell_moves, outward_buffer, swept_shapes
 
 __all__ = [
@@ -55,6 +55,11 @@ __all__ = [
     "reachable_by",
     "shared_targets",
     "cell_spaces",
+    "evaluation_spaces",
+    "evaluation_shared_targets",
+    "local_spaces",
+    "operating_space",
+    "place",
 ]
 
 #: Space outlines lie at most this fraction of the arm's reach outside the true outline.
@@ -300,10 +305,69 @@ class ArmSpaces:
     operating: Any
 
 
+def _shape_key(arm: Arm) -> tuple:
+    """What an arm's spaces depend on in its base frame (not its name or base pose)."""
+    keys = ("link_outlines", "tool_body", "base_footprint", "mechanical_limits_deg")
+    return (
+        arm.a1,
+        arm.a2,
+        tuple(arm.q1_limits),
+        tuple(arm.q2_limits),
+        arm.link_radii,
+        repr([arm.extra.get(k) for k in keys]),
+    )
+
+
+def _at_origin(arm: Arm) -> Arm:
+    return replace(arm, x=0.0, y=0.0, heading_deg=0.0)
+
+
+def place(geom: Any, arm: Arm) -> Any:
+    """A geometry built in the base frame (base at the origin, heading 0) moved to the arm's
+    base pose (a rigid motion: areas are kept)."""
+    if arm.x == 0.0 and arm.y == 0.0 and arm.heading_deg == 0.0:
+        return geom
+    a = math.radians(arm.heading_deg)
+    c, s = math.cos(a), math.sin(a)
+    return shapely.affinity.affine_transform(geom, [c, -s, s, c, arm.x, arm.y])
+
+
+def local_spaces(
+    arm: Arm, tol: float | None = None, cache: dict | None = None
+) -> tuple[Any, Any, str]:
+    """Maximum and restricted space of an arm in its base frame, and the maximum's source.
+
+    ``cache`` (a dict) keeps them per arm shape, so moving or turning a base never
+    rebuilds them.
+    """
+    key = (_shape_key(arm), tol)
+    if cache is not None and key in cache:
+        return cache[key]
+    ab = arm_bodies(_at_origin(arm))
+    restricted = joint_box_space(ab, arm.q1_limits, arm.q2_limits, tol)
+    mech = mechanical_limits(arm)
+    if mech is None:
+        out = (restricted, restricted, "joint limits")
+    else:
+        out = (joint_box_space(ab, mech[0], mech[1], tol), restricted, "mechanical range")
+    if cache is not None:
+        if len(cache) > 64:
+            cache.clear()
+        cache[key] = out
+    return out
+
+
 def arm_spaces(
-    cell: Cell, arm: Arm, moves: Sequence[MoveResult] = (), tol: float | None = None
+    cell: Cell,
+    arm: Arm,
+    moves: Sequence[MoveResult] = (),
+    tol: float | None = None,
+    cache: dict | None = None,
 ) -> ArmSpaces:
     """Maximum, restricted and operating space of one arm.
+
+    The maximum and restricted spaces are built in the base frame and moved to the base
+    pose (:func:`place`), so every front end gets exactly the same polygons.
 
     Parameters
     ----------
@@ -314,14 +378,18 @@ def arm_spaces(
         with a path make up the operating space.
     tol : float, optional
         Arc tolerance (default SPACE_TOL_REL of the reach).
+    cache : dict, optional
+        Base-frame spaces kept between calls (see :func:`local_spaces`).
     """
-    ab = arm_bodies(arm)
-    restricted = joint_box_space(ab, arm.q1_limits, arm.q2_limits, tol)
-    mech = mechanical_limits(arm)
-    if mech is None:
-        maximum, source = restricted, "joint limits"
-    else:
-        maximum, source = joint_box_space(ab, mech[0], mech[1], tol), "mechanical range"
+    maximum, restricted, source = local_spaces(arm, tol, cache)
+    return ArmSpaces(
+        arm.id, place(maximum, arm), source, place(restricted, arm), operating_space(arm, moves)
+    )
+
+
+def operating_space(arm: Arm, moves: Sequence[MoveResult]) -> Any:
+    """Union of the areas swept by the arm's moves with a path (None when there is none)."""
+    ab = None
     swept = []
     for m in moves:
         if m.arm != arm.id or m.path is None or not m.path.allowed:
@@ -329,9 +397,9 @@ def arm_spaces(
         if m.sweep is not None and m.sweep.swept is not None:
             swept.append(m.sweep.swept)
         else:
+            ab = ab or arm_bodies(arm)
             swept.append(shapely.union_all(list(swept_shapes(ab, m.path).values())))
-    operating = shapely.union_all(swept) if swept else None
-    return ArmSpaces(arm.id, maximum, source, restricted, operating)
+    return shapely.union_all(swept) if swept else None
 
 
 @dataclass(frozen=True)
@@ -369,12 +437,19 @@ def shared_zones(spaces: Sequence[ArmSpaces], min_area: float = 0.0) -> list[Sha
     return out
 
 
-def reachable_by(cell: Cell, arm: Arm, targets: Sequence[Target]) -> NDArray[np.bool_]:
+def reachable_by(
+    cell: Cell, arm: Arm, targets: Sequence[Target], fixtures: Sequence[Any] | None = None
+) -> NDArray[np.bool_]:
     """Whether ``arm`` could serve each target: the verdict of
     :func:`kinematics.evaluate.evaluate_arm` (limits, elbow setting, clear of blocking
-    fixtures at the target's work height) as if the target were assigned to it."""
+    fixtures at the target's work height) as if the target were assigned to it.
+
+    ``fixtures`` defaults to those within the arm's reach.
+    """
+    if fixtures is None:
+        fixtures = fixtures_in_reach(arm_bodies(arm), cell.fixtures)
     mine = [Target(t.id, t.name, t.x, t.y, arm.id, t.extra) for t in targets]
-    ev = evaluate_arm(arm, mine, cell.fixtures, clearance_margin(cell))
+    ev = evaluate_arm(arm, mine, fixtures, clearance_margin(cell))
     return np.asarray(ev.feasible, dtype=bool)
 
 
@@ -408,3 +483,84 @@ def cell_spaces(
         moves = cell_moves(cell, evaluation)
     spaces = {a.id: arm_spaces(cell, a, moves) for a in cell.arms}
     return CellSpaces(spaces, shared_zones(list(spaces.values())), shared_targets(cell))
+
+
+def evaluation_spaces(evaluation: Any, operating: bool = True) -> CellSpaces:
+    """The spaces of an evaluation's cell, sharing its caches (see
+    :meth:`kinematics.evaluate.CellEvaluation.spaces`): base-frame spaces per arm shape,
+    operating spaces and shared zones per set of inputs. Without ``operating`` the
+    operating spaces are None and only restricted zones are listed."""
+    cell, store = evaluation.cell, evaluation.store
+    moves = evaluation.moves(polygons=True) if operating else []
+    spaces = {}
+    op_keys = {}
+    for arm in cell.arms:
+        if not operating:
+            maximum, restricted, source = local_spaces(arm, None, store.local_spaces)
+            spaces[arm.id] = ArmSpaces(
+                arm.id, place(maximum, arm), source, place(restricted, arm), None
+            )
+            continue
+        mine = tuple(m for m in moves if m.arm == arm.id)
+        # A swept area depends on the arm and the joint path only.
+        key = (arm, tuple(None if m.path is None else (m.path.q_from, m.path.q_to) for m in mine))
+        op_keys[arm.id] = key
+        hit = store.operating.get(arm.id)
+        if hit is None or hit[0] != key:
+            hit = (key, operating_space(arm, mine))
+            store.operating[arm.id] = hit
+        maximum, restricted, source = local_spaces(arm, None, store.local_spaces)
+        spaces[arm.id] = ArmSpaces(
+            arm.id, place(maximum, arm), source, place(restricted, arm), hit[1]
+        )
+    zones = []
+    arms = list(cell.arms)
+    for i in range(len(arms)):
+        for j in range(i + 1, len(arms)):
+            a, b = spaces[arms[i].id], spaces[arms[j].id]
+            for kind in ("restricted", "operating"):
+                ga, gb = getattr(a, kind), getattr(b, kind)
+                if ga is None or gb is None:
+                    continue
+                if kind == "restricted":
+                    key = (kind, arms[i], arms[j])
+                else:
+                    key = (kind, op_keys[a.arm], op_keys[b.arm])
+                hit = store.zones.get((a.arm, b.arm, kind))
+                if hit is None or hit[0] != key:
+                    hit = (key, shapely.intersection(ga, gb))
+                    store.zones[(a.arm, b.arm, kind)] = hit
+                g = hit[1]
+                if not g.is_empty and g.area > 0:
+                    zones.append(SharedZone((a.arm, b.arm), kind, g, float(g.area)))
+    return CellSpaces(spaces, zones, evaluation_shared_targets(evaluation))
+
+
+def evaluation_shared_targets(evaluation: Any) -> dict[str, tuple[str, ...]]:
+    """Targets two or more arms can reach clear of fixtures, for an evaluation's cell.
+
+    Each arm's own targets come from the evaluation; which other targets it could serve
+    is kept per arm and recomputed only when that arm, the fixtures in its reach or the
+    other arms' targets change.
+    """
+    cell, store = evaluation.cell, evaluation.store
+    if not cell.targets or len(cell.arms) < 2:
+        return {}
+    serves: dict[str, set[str]] = {}
+    for arm in cell.arms:
+        ev = evaluation.arms[arm.id]
+        mine = {tid for tid, ok in zip(ev.target_ids, ev.feasible.tolist()) if ok}
+        others = tuple(t for t in cell.targets if t.arm != arm.id)
+        key = (ev.arm, ev.fixtures, cell.extra.get("clearance_margin"), others)
+        hit = store.serves.get(arm.id)
+        if hit is None or hit[0] != key:
+            ok = reachable_by(cell, arm, others, ev.fixtures) if others else np.zeros(0, bool)
+            hit = (key, {t.id for t, k in zip(others, ok.tolist()) if k})
+            store.serves[arm.id] = hit
+        serves[arm.id] = mine | hit[1]
+    out = {}
+    for t in cell.targets:
+        arms = tuple(a.id for a in cell.arms if t.id in serves[a.id])
+        if len(arms) >= 2:
+            out[t.id] = arms
+    return out

@@ -504,6 +504,8 @@ class MoveResult:
         Id of the fixture at the smallest clearance when the move collides.
     reason : str
         Empty when the move is possible and clear.
+    body : str or None
+        Name of the body at the smallest clearance when the move collides.
     """
 
     arm: str
@@ -515,6 +517,7 @@ class MoveResult:
     clearance: float | None
     blocked_by: str | None
     reason: str
+    body: str | None = None
 
     @property
     def feasible(self) -> bool:
@@ -536,7 +539,8 @@ def sequence_moves(
     ----------
     cell : Cell
     evaluation : CellEvaluation
-        Supplies ``arms[arm_id].chosen`` and ``.ik.q_deg`` per target.
+        Supplies ``arms[arm_id]``: the chosen configurations, the arm's bodies and the
+        fixtures within its reach (the ones the moves are checked against).
     arm_id : str
     target_ids : sequence of str
     cyclic : bool
@@ -544,12 +548,13 @@ def sequence_moves(
     polygons : bool
         Also build swept-area polygons.
     """
-    arm = cell.arm(arm_id)
     ev = evaluation.arms[arm_id]
-    ab = arm_bodies(arm)
+    arm = ev.arm
+    ab = ev.bodies if ev.bodies is not None else arm_bodies(arm)
+    fixtures = ev.fixtures
     margin = clearance_margin(cell)
-    fs = FixtureSet.of(cell.fixtures)
-    lmask = link_blocking(arm, cell.fixtures, margin)
+    fs = FixtureSet.of(fixtures)
+    lmask = link_blocking(arm, fixtures, margin)
     by_id = {t.id: t for t in cell.targets}
     pairs = list(zip(target_ids[:-1], target_ids[1:]))
     if cyclic and len(target_ids) > 1:
@@ -585,9 +590,9 @@ def sequence_moves(
         wa = work_height(by_id[a]) if a in by_id else None
         wb = work_height(by_id[b]) if b in by_id else None
         wh = max(wa, wb) if wa is not None and wb is not None else np.nan
-        tmask = tool_blocking(arm, cell.fixtures, margin, wh) if ab.has_tool else None
+        tmask = tool_blocking(arm, fixtures, margin, wh) if ab.has_tool else None
         sw = sweep_move(ab, fs, path, lmask, tmask, polygons=polygons)
-        blocked = cell.fixtures[sw.fixture] if sw.collides and sw.fixture >= 0 else None
+        blocked = fixtures[sw.fixture] if sw.collides and sw.fixture >= 0 else None
         out.append(
             MoveResult(
                 arm_id,
@@ -599,6 +604,7 @@ def sequence_moves(
                 sw.clearance if math.isfinite(sw.clearance) else None,
                 blocked.id if blocked is not None else None,
                 f"collides with {blocked.name}" if blocked is not None else "",
+                ab.bodies[sw.body].name if blocked is not None and sw.body >= 0 else None,
             )
         )
     return out

@@ -1,39 +1,45 @@
 """The problems list: every infeasible target, then every colliding or impossible move.
 
-Each entry gives the reason in words and numbers. Clicking a target's entry selects
-the target and asks the canvas to centre on it; clicking a move's entry selects its
-two targets and asks the canvas to show both.
+Each entry gives the reason in words and numbers (from :mod:`kinematics.wording`).
+Clicking a target's entry selects the target and asks the canvas to centre on it;
+clicking a move's entry selects its two targets and asks the canvas to show both.
 
-Target entries follow every change live. Moves cost more (their clearance is sampled
-along the joint path), so during a drag they are recomputed once the changes pause
-(``MOVES_PAUSE_MS``) and the previous move entries stay until then.
+Target entries follow every change live, from the document's shared evaluation: while a
+drag steps they give their reasons without amounts (which would change at every pointer
+move), and the amounts come back when the changes pause. Moves cost more (their
+clearance is sampled along the joint path), so during a drag they are checked again once
+the changes pause and the previous move entries stay until then. Only entries whose
+text changed are touched.
 """
 
 from __future__ import annotations
 
-from PySide6.QtCore import Qt, QTimer, Signal
+from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QBrush, QColor
 from PySide6.QtWidgets import QAbstractItemView, QListWidget, QListWidgetItem, QWidget
 
 from app.bind import EchoGuard, blocked
 from app.document import Changes, Document
-from app.panels.moves import SHARED, MoveCache
-from app.panels.text import move_problems, problems
+from app.panels.text import move_problems
+from app.pause import pause_timer
 from app.style import PALETTE, status_style
 from kinematics.ik import Status
+from kinematics.wording import target_reason
 
-__all__ = ["ProblemsList", "NO_PROBLEMS", "MOVES_PAUSE_MS"]
+__all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS"]
 
 #: Shown when every target is feasible and every move clear.
 NO_PROBLEMS = (
-    "✓ No problems: every target is reachable within its arm's limits and clear of "
+    "✓ No problems: every target is feasible within its arm's limits and clear of "
     "fixtures, and every move is clear"
 )
-#: Pause in drag steps after which the moves are checked again (milliseconds).
-MOVES_PAUSE_MS = 200
+#: Shown when the cell has no targets.
+NO_TARGETS = "No targets yet: add targets to see what the arms reach"
 
 _ID_ROLE = Qt.ItemDataRole.UserRole
 _MOVE_ROLE = Qt.ItemDataRole.UserRole + 1
+
+_Key = tuple[str, str]  # ("t", target id) or ("m", "arm\0from\0to")
 
 
 class ProblemsList(QListWidget):
@@ -53,20 +59,17 @@ class ProblemsList(QListWidget):
     zoom_targets_requested = Signal(list)
     count_changed = Signal(int)
 
-    def __init__(
-        self, document: Document, parent: QWidget | None = None, moves: MoveCache | None = None
-    ) -> None:
+    def __init__(self, document: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
         self.document = document
-        self._cache = moves if moves is not None else SHARED
         self._guard = EchoGuard()
-        self._lines: list[tuple[str, str]] | None = None
+        pause_timer(document)  # the "changes paused" clock this view waits for
+        self._target_lines: list[tuple[str, str, int]] = []  # (id, line, status)
         self._move_lines: list[tuple[tuple[str, str, str], str]] = []
-        self._shown: tuple | None = None
-        self._moves_timer = QTimer(self)
-        self._moves_timer.setSingleShot(True)
-        self._moves_timer.setInterval(MOVES_PAUSE_MS)
-        self._moves_timer.timeout.connect(self._refresh_moves)
+        self._shown: list[tuple[_Key, str]] = []
+        self._lines_of: dict[str, tuple[object, str, bool, str]] = {}
+        self._moves_stale = False
+        self._count = -1
         self.setObjectName("problems_list")
         self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
         self.setWordWrap(True)
@@ -76,22 +79,23 @@ class ProblemsList(QListWidget):
         self.itemActivated.connect(self._on_clicked)
         self.itemSelectionChanged.connect(self._on_view_selection)
         document.events.cell_changed.connect(self._on_cell_changed)
+        document.events.changes_paused.connect(self._on_paused)
         document.selection.changed.connect(lambda _ids: self._show_selection())
-        self._refresh()
+        self._refresh(moves=True)
 
     @property
     def count_of_problems(self) -> int:
         """Entries listed: failing targets plus colliding or impossible moves."""
-        return len(self._lines or []) + len(self._move_lines)
+        return len(self._target_lines) + len(self._move_lines)
 
     @property
     def failing_targets(self) -> int:
         """Failing targets listed (moves not counted)."""
-        return len(self._lines or [])
+        return len(self._target_lines)
 
     def problem_ids(self) -> list[str]:
         """Ids of the failing targets listed, in order."""
-        return [tid for tid, _ in self._lines or []]
+        return [tid for tid, _line, _st in self._target_lines]
 
     def problem_moves(self) -> list[tuple[str, str, str]]:
         """(arm, from, to) of the moves listed, in order."""
@@ -100,67 +104,125 @@ class ProblemsList(QListWidget):
     @property
     def moves_pending(self) -> bool:
         """True while the move entries wait for a pause in the changes."""
-        return self._moves_timer.isActive()
+        return self._moves_stale
 
     def lines(self) -> list[str]:
         """The texts shown, in order (the no-problems line when there are none)."""
         return [self.item(i).text() for i in range(self.count())]
 
+    # ------------------------------------------------------------------ updates
+
     def _on_cell_changed(self, _changes: Changes) -> None:
-        self._refresh()
+        stepping = self.document.unsettled
+        if stepping and self.document.cell.sequences:
+            self._moves_stale = True
+        self._refresh(moves=not stepping)
 
-    def _refresh(self) -> None:
-        if self.document.previewing:
-            self._moves_timer.start()  # restarted by every step: runs once the drag pauses
-        else:
-            self._moves_timer.stop()
+    def _on_paused(self) -> None:
+        self._refresh(moves=True)
+
+    def _refresh(self, moves: bool) -> None:
+        if moves:
+            self._moves_stale = False
             self._move_lines = self._compute_moves()
-        self._show(problems(self.document.evaluation))
+        self._target_lines = self._compute_targets(plain=self.document.unsettled)
+        self._show()
 
-    def _refresh_moves(self) -> None:
-        self._move_lines = self._compute_moves()
-        self._show(problems(self.document.evaluation))
+    def _compute_targets(self, plain: bool) -> list[tuple[str, str, int]]:
+        """(id, line, status) of every failing target, in the cell's order.
+
+        Lines are kept per target while its arm's evaluation and its name stay the same.
+        """
+        evaluation = self.document.evaluation
+        cell = evaluation.cell
+        out = []
+        keep: dict[str, tuple[object, str, bool, str]] = {}
+        for t in cell.targets:
+            try:
+                ev, i = evaluation.locate(t.id)
+            except KeyError:
+                line = f"✕ {t.id} {t.name} — assigned to missing arm {t.arm!r}"
+                out.append((t.id, line, int(Status.BEYOND_REACH)))
+                continue
+            if bool(ev.feasible[i]):
+                continue
+            hit = self._lines_of.get(t.id)
+            if hit is not None and hit[0] is ev and hit[2] == plain and hit[3] == t.name:
+                line = hit[1]
+            else:
+                st = int(ev.status[i])
+                reason = target_reason(ev, i, cell.units, "plain" if plain else "full")
+                line = f"{status_style(st).glyph} {t.id} {t.name} — {reason}"
+            keep[t.id] = (ev, line, plain, t.name)
+            out.append((t.id, line, int(ev.status[i])))
+        self._lines_of = keep
+        return out
 
     def _compute_moves(self) -> list[tuple[tuple[str, str, str], str]]:
         cell = self.document.cell
         if not cell.sequences:
             return []
-        return move_problems(cell, self._cache.moves(cell, self.document.evaluation))
+        return move_problems(cell, self.document.evaluation.moves())
 
-    def _show(self, lines: list[tuple[str, str]]) -> None:
-        evaluation = self.document.evaluation
-        if (lines, self._move_lines) == self._shown:
-            return
-        self._shown = (lines, list(self._move_lines))
-        self._lines = lines
+    def _wanted(self) -> list[tuple[_Key, str, QBrush | None, str]]:
+        out: list[tuple[_Key, str, QBrush | None, str]] = []
+        for tid, line, st in self._target_lines:
+            colour = QColor(status_style(st).colour).darker(150)
+            out.append((("t", tid), line, QBrush(colour), line))
+        for key, line in self._move_lines:
+            collides = line.startswith(status_style(Status.COLLISION).glyph)
+            colour = QColor(status_style(Status.COLLISION if collides else Status.Q2_LIMIT).colour)
+            tip = f"{line}\nClick to select and show both targets of the move."
+            out.append((("m", "\0".join(key)), line, QBrush(colour.darker(150)), tip))
+        if not out:
+            text = NO_PROBLEMS if self.document.cell.targets else NO_TARGETS
+            out.append((("none", ""), text, QBrush(QColor(PALETTE["pine"]).darker(130)), text))
+        return out
+
+    def _show(self) -> None:
+        wanted = self._wanted()
+        new_keys = [k for k, *_ in wanted]
+        old_keys = [k for k, _ in self._shown]
         with blocked(self):
-            self.clear()
-            if not lines and not self._move_lines:
-                item = QListWidgetItem(NO_PROBLEMS)
-                item.setFlags(Qt.ItemFlag.ItemIsEnabled)
-                item.setForeground(QBrush(QColor(PALETTE["pine"]).darker(130)))
-                self.addItem(item)
-            for tid, line in lines:
-                item = QListWidgetItem(line)
-                item.setData(_ID_ROLE, tid)
-                item.setToolTip(line)
-                try:
-                    ev, i = evaluation.locate(tid)
-                    colour = status_style(int(ev.status[i])).colour
-                except KeyError:
-                    colour = PALETTE["ember"]
-                item.setForeground(QBrush(QColor(colour).darker(150)))
-                self.addItem(item)
-            for key, line in self._move_lines:
-                item = QListWidgetItem(line)
-                item.setData(_MOVE_ROLE, list(key))
-                item.setToolTip(f"{line}\nClick to select and show both targets of the move.")
-                collides = line.startswith(status_style(Status.COLLISION).glyph)
-                colour = status_style(Status.COLLISION if collides else Status.Q2_LIMIT).colour
-                item.setForeground(QBrush(QColor(colour).darker(150)))
-                self.addItem(item)
+            if new_keys != old_keys:
+                self._merge(old_keys, wanted)
+            for row, (_key, line, brush, tip) in enumerate(wanted):
+                if self._shown[row][1] != line:
+                    item = self.item(row)
+                    item.setText(line)
+                    item.setToolTip(tip)
+                    item.setForeground(brush)
+            self._shown = [(k, line) for k, line, *_ in wanted]
         self._show_selection()
-        self.count_changed.emit(self.count_of_problems)
+        if self.count_of_problems != self._count:
+            self._count = self.count_of_problems
+            self.count_changed.emit(self._count)
+
+    def _merge(self, old_keys: list[_Key], wanted: list) -> None:
+        """Make the items follow ``wanted``: remove entries that went, insert new ones."""
+        new_set = {k for k, *_ in wanted}
+        for row in range(len(old_keys) - 1, -1, -1):
+            if old_keys[row] not in new_set:
+                self.takeItem(row)
+                del self._shown[row]
+        have = {k for k, _ in self._shown}
+        for row, (key, line, brush, tip) in enumerate(wanted):
+            if key in have:
+                continue
+            item = QListWidgetItem(line)
+            kind, ident = key
+            if kind == "t":
+                item.setData(_ID_ROLE, ident)
+            elif kind == "m":
+                item.setData(_MOVE_ROLE, ident.split("\0"))
+            else:
+                item.setFlags(Qt.ItemFlag.ItemIsEnabled)
+            item.setToolTip(tip)
+            item.setForeground(brush)
+            self.insertItem(row, item)
+            self._shown.insert(row, (key, line))
+
+    # ------------------------------------------------------------------ selection
 
     @staticmethod
     def _ids_of(item: QListWidgetItem) -> list[str]:
@@ -199,5 +261,7 @@ class ProblemsList(QListWidget):
                 it = self.item(i)
                 ids = self._ids_of(it)
                 # A move is shown selected when both of its targets are.
-                it.setSelected(bool(ids) and all(t in chosen for t in ids))
+                want = bool(ids) and all(t in chosen for t in ids)
+                if it.isSelected() != want:
+                    it.setSelected(want)
         self.viewport().update()

@@ -11,6 +11,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
 from PySide6.QtCore import (
     QAbstractTableModel,
     QItemSelection,
@@ -33,19 +34,21 @@ from PySide6.QtWidgets import (
 
 from app.bind import EchoGuard
 from app.document import Changes, Document
-from app.panels.text import (
-    clearance_text,
-    closest_configuration,
-    degrees,
-    length,
-    nearest_text,
-    status_cell,
-)
+from app.panels.text import clearance_text, degrees, length, nearest_text, status_cell
 from app.panels.validate import Invalid, check_cell, format_number, replace_target, target_with
-from app.style import status_style
+from app.pause import pause_timer
+from app.style import PALETTE, status_style
 from kinematics.ik import Status
 
-__all__ = ["Column", "COLUMNS", "SORT_ROLE", "PAST_LIMIT", "TargetTableModel", "TargetTable"]
+__all__ = [
+    "Column",
+    "COLUMNS",
+    "SORT_ROLE",
+    "PAST_LIMIT",
+    "FORBIDDEN",
+    "TargetTableModel",
+    "TargetTable",
+]
 
 #: Role holding the value the proxy sorts by (numbers sort as numbers).
 SORT_ROLE = Qt.ItemDataRole.UserRole + 1
@@ -135,10 +138,14 @@ class _Row:
     status: int
     feasible: bool
     tip: str = ""
+    allowed: tuple[bool, bool] = (True, True)
 
 
 #: Marks a joint angle past its limit (the status column says which limit fails).
 PAST_LIMIT = "✕"
+#: Marks a value of a configuration the arm's elbow setting forbids.
+FORBIDDEN = "⊘"
+_Q_COLUMNS = ("q1p", "q2p", "q1n", "q2n", "clear_p", "clear_n")
 
 
 def _joint(v: float, within: bool) -> str:
@@ -158,8 +165,89 @@ def _clear(ev: Any, i: int, k: int) -> float:
     return -math.inf if math.isnan(v) else v
 
 
+def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
+    """One row's texts and sort values (formatted only when the row is shown or sorted)."""
+    u = cell.units
+    try:
+        ev, i = evaluation.locate(t.id)
+    except KeyError:
+        text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
+        rest = len(COLUMNS) - 6
+        text += [f"✕ fails: no arm {t.arm!r}"] + ["—"] * rest
+        sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * rest
+        return _Row(t.id, text, sort, int(Status.BEYOND_REACH), False)
+    ik = ev.ik
+    q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
+    within = ik.within_limits[i].reshape(-1)
+    allowed = (bool(ik.allowed[i, 0]), bool(ik.allowed[i, 1]))
+    k = ev.closest(i)
+    limit = float(ik.limit_margin_deg[i, k])
+    reach = float(ik.reach_margin[i])
+    manip = float(ik.manipulability[i, k])
+    elbow = ev.chosen_elbow(i) or "—"
+    st = int(ev.status[i])
+    qtext = [_joint(v, bool(ok)) for v, ok in zip(q, within, strict=True)]
+    ctext = [clearance_text(ev, i, 0, u, unit=False), clearance_text(ev, i, 1, u, unit=False)]
+    for c in (0, 1):
+        if not allowed[c]:
+            # The elbow setting forbids this configuration: its values are no option.
+            qtext[2 * c] = f"{FORBIDDEN} {qtext[2 * c]}"
+            qtext[2 * c + 1] = f"{FORBIDDEN} {qtext[2 * c + 1]}"
+            ctext[c] = f"{FORBIDDEN} {ctext[c]}"
+    text = [
+        t.id,
+        t.name,
+        length(t.x, u, False),
+        length(t.y, u, False),
+        t.arm,
+        status_cell(ev, i, u, short=True),
+        elbow,
+        *qtext,
+        *ctext,
+        nearest_text(ev, i, k),
+        degrees(limit, False),
+        length(reach, u, False),
+        f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
+    ]
+    sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
+    sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
+    sort += [_num(limit), _num(reach), _num(manip)]
+    tip = status_cell(ev, i, u)
+    return _Row(t.id, text, sort, st, bool(ev.feasible[i]), tip, allowed)
+
+
+def _changed_rows(old: Any, new: Any) -> set[int] | None:
+    """Indices (in the arm's target order) whose verdict differs between two evaluations of
+    one arm, None when the arrays are not comparable (then every row of the arm changed)."""
+    if old is new:
+        return set()
+    if old is None or old.target_ids != new.target_ids:
+        return None
+    diff = np.zeros(len(new.target_ids), dtype=bool)
+    for a, b in (
+        (old.status, new.status),
+        (old.chosen, new.chosen),
+        (old.ik.q_deg, new.ik.q_deg),
+        (old.clearance, new.clearance),
+        (old.clearance_fixture, new.clearance_fixture),
+        (old.clearance_body, new.clearance_body),
+        (old.ik.reach_margin, new.ik.reach_margin),
+    ):
+        if a.shape != b.shape:
+            return None
+        d = ~((a == b) | (np.isnan(a) & np.isnan(b)) if a.dtype.kind == "f" else (a == b))
+        diff |= d.reshape(len(diff), -1).any(axis=1)
+    if old.arm.name != new.arm.name or old.fixtures != new.fixtures:
+        diff[:] = True
+    return set(np.flatnonzero(diff).tolist())
+
+
 class TargetTableModel(QAbstractTableModel):
     """Table model over the document's targets and their evaluation.
+
+    Rows are formatted when the view asks for them (only the visible ones are painted)
+    and kept until their target or its verdict changes; a change tells the view only
+    about the rows it touched.
 
     Signals
     -------
@@ -172,88 +260,71 @@ class TargetTableModel(QAbstractTableModel):
     def __init__(self, document: Document, parent: Any = None) -> None:
         super().__init__(parent)
         self.document = document
-        self._rows: list[_Row] = []
+        self._ids: list[str] = []
+        self._row_of: dict[str, int] = {}
+        self._cache: dict[int, _Row] = {}
+        self._evaluation = document.evaluation
+        #: Rows formatted so far (for tests of the lazy formatting).
+        self.formatted = 0
         self._rebuild()
         document.events.cell_changed.connect(self._on_cell_changed)
 
     # ------------------------------------------------------------------ contents
 
     def _rebuild(self) -> None:
-        evaluation = self.document.evaluation
-        cell = evaluation.cell
-        u = cell.units
-        rows = []
-        for t in cell.targets:
-            try:
-                ev, i = evaluation.locate(t.id)
-            except KeyError:
-                text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
-                rest = len(COLUMNS) - 6
-                text += [f"✕ FAIL: no arm {t.arm!r}"] + ["—"] * rest
-                sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * rest
-                rows.append(_Row(t.id, text, sort, int(Status.BEYOND_REACH), False))
-                continue
-            ik = ev.ik
-            q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
-            within = ik.within_limits[i].reshape(-1)
-            chosen = int(ev.chosen[i])
-            k = chosen if chosen >= 0 else closest_configuration(ev, i)
-            limit = float(ik.limit_margin_deg[i, k])
-            reach = float(ik.reach_margin[i])
-            manip = float(ik.manipulability[i, k])
-            elbow = ev.chosen_elbow(i) or "—"
-            st = int(ev.status[i])
-            text = [
-                t.id,
-                t.name,
-                length(t.x, u, False),
-                length(t.y, u, False),
-                t.arm,
-                status_cell(ev, i, u, short=True),
-                elbow,
-                *(_joint(v, bool(ok)) for v, ok in zip(q, within, strict=True)),
-                clearance_text(ev, i, 0, u, unit=False),
-                clearance_text(ev, i, 1, u, unit=False),
-                nearest_text(ev, i, k),
-                degrees(limit, False),
-                length(reach, u, False),
-                f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
-            ]
-            sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
-            sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
-            sort += [_num(limit), _num(reach), _num(manip)]
-            tip = status_cell(ev, i, u)
-            rows.append(_Row(t.id, text, sort, st, bool(ev.feasible[i]), tip))
-        self._rows = rows
+        self._evaluation = self.document.evaluation
+        self._ids = [t.id for t in self.document.cell.targets]
+        self._row_of = {tid: r for r, tid in enumerate(self._ids)}
+        self._cache = {}
+
+    def _get(self, r: int) -> _Row:
+        row = self._cache.get(r)
+        if row is None:
+            cell = self.document.cell
+            row = _row(cell, self._evaluation, cell.targets[r])
+            self._cache[r] = row
+            self.formatted += 1
+        return row
 
     def _on_cell_changed(self, changes: Changes) -> None:
-        if changes.structure or len(self._rows) != len(self.document.cell.targets):
+        cell = self.document.cell
+        if changes.structure or len(self._ids) != len(cell.targets):
             self.beginResetModel()
             self._rebuild()
             self.endResetModel()
-        else:
-            self._rebuild()
-            if self._rows:
-                last = self.index(len(self._rows) - 1, len(COLUMNS) - 1)
-                self.dataChanged.emit(self.index(0, 0), last)
+            return
+        old, new = self._evaluation, self.document.evaluation
+        self._evaluation = new
+        rows: set[int] = {self._row_of[t] for t in changes.targets if t in self._row_of}
+        every = bool(changes.other and (cell.units != old.cell.units))
+        for aid, ev in new.arms.items():
+            prev = old.arms.get(aid)
+            changed = _changed_rows(prev, ev)
+            idx = range(len(ev.target_ids)) if changed is None else changed
+            rows.update(self._row_of[ev.target_ids[i]] for i in idx)
+        if every:
+            rows = set(range(len(self._ids)))
+        for r in rows:
+            self._cache.pop(r, None)
+        if rows:
+            # One signal for the span of changed rows: the view repaints what it shows.
+            last = len(COLUMNS) - 1
+            self.dataChanged.emit(self.index(min(rows), 0), self.index(max(rows), last))
         if changes.other:
             self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(COLUMNS) - 1)
 
     def target_id(self, row: int) -> str:
         """Id of the target in a (source) row."""
-        return self._rows[row].id
+        return self._ids[row]
 
     def row_of(self, target_id: str) -> int:
         """Source row of a target, -1 when there is none."""
-        for r, row in enumerate(self._rows):
-            if row.id == target_id:
-                return r
-        return -1
+        return self._row_of.get(target_id, -1)
 
     # ------------------------------------------------------------------ Qt model API
 
     def rowCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
-        return 0 if parent.isValid() else len(self._rows)
+        return 0 if parent.isValid() else len(self._ids)
 
     def columnCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
         return 0 if parent.isValid() else len(COLUMNS)
@@ -287,9 +358,11 @@ class TargetTableModel(QAbstractTableModel):
     def data(self, index: QModelIndex | QPersistentModelIndex, role: int = 0) -> Any:
         if not index.isValid():
             return None
-        row = self._rows[index.row()]
         c = index.column()
         key = _KEYS[c]
+        if role == ID_ROLE:
+            return self._ids[index.row()]
+        row = self._get(index.row())
         if role == Qt.ItemDataRole.DisplayRole:
             return row.text[c]
         if role == Qt.ItemDataRole.EditRole:
@@ -299,10 +372,17 @@ class TargetTableModel(QAbstractTableModel):
             return row.text[c]
         if role == SORT_ROLE:
             return row.sort[c]
-        if role == ID_ROLE:
-            return row.id
+        forbidden = key in _Q_COLUMNS and not row.allowed[0 if key.endswith("p") else 1]
+        if role == Qt.ItemDataRole.ToolTipRole and forbidden:
+            return f"{row.text[c]}: not allowed by the arm's elbow setting"
         if role == Qt.ItemDataRole.ToolTipRole and key in ("id", "name", "status", "nearest"):
             return row.tip if key == "status" and row.tip else row.text[c]
+        if forbidden and role == Qt.ItemDataRole.ForegroundRole:
+            return QBrush(QColor(PALETTE["slate"]))
+        if forbidden and role == Qt.ItemDataRole.FontRole:
+            f = QFont()
+            f.setItalic(True)
+            return f
         if role == Qt.ItemDataRole.TextAlignmentRole and COLUMNS[c].numeric:
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         if key in ("clear_p", "clear_n", "nearest") and "✕" in row.text[c]:
@@ -381,6 +461,7 @@ class TargetTable(QTableView):
         self.document = document
         self._guard = EchoGuard()
         self.source = TargetTableModel(document, self)
+        pause_timer(document)  # the "changes paused" clock this view waits for
         self.proxy = QSortFilterProxyModel(self)
         self.proxy.setSourceModel(self.source)
         self.proxy.setSortRole(SORT_ROLE)
@@ -409,6 +490,13 @@ class TargetTable(QTableView):
         self.source.modelReset.connect(self._show_selection)
         self.source.modelReset.connect(self.fit_columns)
         document.selection.changed.connect(lambda _ids: self._show_selection())
+        # Rows keep their places while a drag steps; the sort order catches up at the pause.
+        document.events.cell_changed.connect(self._hold_order)
+        document.events.changes_paused.connect(lambda: self.proxy.setDynamicSortFilter(True))
+
+    def _hold_order(self, _changes: Changes) -> None:
+        if self.document.previewing and self.proxy.dynamicSortFilter():
+            self.proxy.setDynamicSortFilter(False)
 
     def fit_columns(self) -> None:
         """Size columns to their contents, long names and reasons capped (they elide)."""

@@ -328,12 +328,14 @@ def test_reasons_and_reach_margin_through_the_command(tmp_path, capsys):
     assert hole["reach_margin"] == pytest.approx(100.0 - 150.0)
     assert hole["reason"] == "inside the inner hole by 50.0 mm" and hole["solutions"] == []
     excl = by_id["excl"]
-    assert excl["reason"] == "excluded by the arm's elbow setting (only negative fits)"
+    assert excl["reason"] == (
+        "excluded by the arm's elbow setting 'positive' (only the negative elbow fits)"
+    )
     assert excl["chosen_elbow"] is None and len(excl["solutions"]) == 2
     r = math.hypot(450.0, 180.0)
     assert excl["reach_margin"] == pytest.approx(min(650.0 - r, r - 150.0))
     q2 = by_id["q2"]
-    assert q2["reason"] == "q2 limit by 16.5 deg"
+    assert q2["reason"] == "q2 limit by 16.5° (closest: positive elbow)"
     assert [s["limit_margin_deg"] for s in q2["solutions"]] == pytest.approx([-16.46] * 2, abs=5e-3)
 
 

@@ -107,11 +107,12 @@ def test_every_sample_cell_opens_with_table_and_problems(make_window, path):
     assert win.target_table.source.rowCount() == len(cell.targets)
     statuses = table_status(win)
     assert set(statuses) == {t.id for t in cell.targets}
-    failing = [tid for tid, text in statuses.items() if "FAIL" in text]
+    failing = [tid for tid, text in statuses.items() if "fails" in text]
     # Every sample cell is built to show at least one failing and one feasible target.
     assert failing and len(failing) < len(cell.targets)
     assert win.problems.problem_ids() == [t.id for t in cell.targets if t.id in failing]
-    assert all(text.startswith(("●", "✕", "◆", "▲", "▼", "■", "★")) for text in statuses.values())
+    glyphs = ("●", "✕", "◆", "▲", "▼", "■", "★", "⬟")
+    assert all(text.startswith(glyphs) for text in statuses.values())
     assert win.problems_dock.windowTitle() == f"Problems ({len(failing)})"
 
 
@@ -138,19 +139,20 @@ def test_moving_the_base_updates_table_and_problems(window):
     # Put the base 450 mm from the far target, mid-annulus (50..600 mm) with q2 near 83 degrees.
     move_base(window, far.x - 450.0, far.y)
     statuses = table_status(window)
-    assert statuses["outfeed_far"] == "● ok"
+    assert statuses["outfeed_far"] == "● feasible"
     assert "outfeed_far" not in window.problems.problem_ids()
 
     # Move the base 10 m away: every target is beyond outer reach by its distance - (a1 + a2).
     move_base(window, 10_000.0, 0.0)
     statuses = table_status(window)
-    assert all(text.startswith("✕ FAIL: beyond outer reach") for text in statuses.values())
+    assert all(text.startswith("✕ fails: beyond outer reach") for text in statuses.values())
     assert window.problems.problem_ids() == [t.id for t in cell.targets]
     for t, line in zip(cell.targets, window.problems.lines(), strict=True):
         beyond = math.hypot(t.x - 10_000.0, t.y) - (arm.a1 + arm.a2)
         assert line.endswith(f"beyond outer reach by {beyond:.1f} mm")
     assert (
-        window.hover_label.text() == f"{len(cell.targets)} targets: 0 ok, {len(cell.targets)} fail"
+        window.hover_label.text()
+        == f"0 of {len(cell.targets)} targets feasible, {len(cell.targets)} fail"
     )
 
 
@@ -404,7 +406,7 @@ def test_hover_shows_both_configurations_and_margins(window):
     reach = min(arm.a1 + arm.a2 - math.hypot(dx, dy), math.hypot(dx, dy) - abs(arm.a1 - arm.a2))
     window.canvas.hovered_target.emit("outfeed_place")
     text = window.hover_label.text()
-    assert text.startswith("outfeed_place ● ok | ")
+    assert text.startswith("outfeed_place ● feasible | ")
     # Both are within limits here; the chosen one keeps the larger margin to its nearest limit.
     margins = [
         min(
@@ -423,7 +425,7 @@ def test_hover_shows_both_configurations_and_margins(window):
         assert f"({sign}{mark}) q1 {q1:.1f}° q2 {q2:.1f}°" in text
     assert f"margins: limit {margins[chosen]:.1f}°, reach {reach:.1f} mm" in text
     window.canvas.hovered_target.emit("")
-    assert "targets:" in window.hover_label.text()
+    assert window.hover_label.text() == "9 of 11 targets feasible, 2 fail"
 
 
 def test_cursor_position_in_cell_units(window):
@@ -587,11 +589,11 @@ def test_mouse_drag_of_a_base_updates_table_and_problems_live_and_undoes_exactly
             if r > moved.a1 + moved.a2:
                 beyond = r - (moved.a1 + moved.a2)
                 expected = (
-                    f"✕ FAIL: beyond outer reach by {beyond:.{2 if cell.units == 'in' else 1}f}"
+                    f"✕ fails: beyond outer reach by {beyond:.{2 if cell.units == 'in' else 1}f}"
                 )
                 assert statuses[t.id] == f"{expected} {cell.units}", t.id
-        assert statuses[far.id].startswith("✕ FAIL: beyond outer reach")
-        failing = [t.id for t in win.document.cell.targets if "FAIL" in statuses[t.id]]
+        assert statuses[far.id].startswith("✕ fails: beyond outer reach")
+        failing = [t.id for t in win.document.cell.targets if "fails" in statuses[t.id]]
         assert win.problems.problem_ids() == failing
         assert win.problems_dock.windowTitle() == f"Problems ({len(failing)})"
 
@@ -634,7 +636,7 @@ def test_a_colliding_move_in_the_problems_list_shows_both_targets(make_window, q
     assert win.problems.problem_moves() == [("arm", "pick", "nest"), ("arm", "nest", "pick")]
     # The dock counts every entry; the status bar counts failing targets only.
     assert win.problems_dock.windowTitle() == "Problems (3)"
-    assert win.hover_label.text() == "3 targets: 2 ok, 1 fail"
+    assert win.hover_label.text() == "2 of 3 targets feasible, 1 fails"
     shown: list[list[str]] = []
     monkeypatch.setattr(win.canvas, "zoom_to_targets", shown.append)
     # Connected at start-up, so reconnect to the patched method.

@@ -148,12 +148,12 @@ def test_every_sample_cell_opens_and_draws_its_items(qtbot, path):
     assert not img.isNull() and img.width() > 0
     # One marker per target across the status layers, with the status the engine gives.
     ev = doc.evaluation
-    drawn = sum(c.markers.count(int(st)) for st in Status)
+    drawn = sum(c.targets.markers.count(int(st)) for st in Status)
     assert drawn == len(cell.targets)
     for st in Status:
         expected = sum(int(np.count_nonzero(e.status == st)) for e in ev.arms.values())
-        assert c.markers.count(int(st)) == expected
-    assert len(c._fixture_items) == len(cell.fixtures)
+        assert c.targets.markers.count(int(st)) == expected
+    assert set(c.fixtures.outlines()) == {f.id for f in cell.fixtures}
     assert c.plot.getAxis("bottom").labelText == f"x ({cell.units})"
     assert c.scale_bar.text().endswith(cell.units)
     assert len(SAMPLES) >= 1
@@ -180,7 +180,7 @@ def test_dragging_a_base_updates_statuses_live_and_records_one_undo_step(qtbot, 
         t = next(t for t in doc.cell.targets if t.id == tid)
         assert int(ev.status[i]) == _reach_status(arm, t.x, t.y) == int(Status.BEYOND_REACH)
     # The canvas draws them with the out-of-reach marker.
-    assert canvas.markers.count(int(Status.BEYOND_REACH)) == 3
+    assert canvas.targets.markers.count(int(Status.BEYOND_REACH)) == 3
     assert canvas.status_message is not None
 
 
@@ -220,9 +220,9 @@ def test_esc_mid_drag_restores_the_document_exactly(qtbot, canvas, rec):
 def test_ghost_poses_end_on_their_targets(canvas, rec):
     doc = rec.doc
     arm = doc.cell.arm("a")
-    ev = canvas.evaluation("a")
+    ev = canvas.document.evaluation.arms["a"]
     for c in (0, 1):
-        path: QPainterPath = canvas._ghost_items[("a", c, "chosen")].path()
+        path: QPainterPath = canvas.ghosts.items[("a", c, "chosen")].path()
         pts = [(path.elementAt(k).x, path.elementAt(k).y) for k in range(path.elementCount())]
         tips = pts[2::3]
         for i, tid in enumerate(ev.target_ids):
@@ -242,7 +242,7 @@ def test_ghost_poses_end_on_their_targets(canvas, rec):
     assert bad, "the test cell needs an unreachable target"
     for i in bad:
         t = doc.cell.targets[i]
-        for item in canvas._ghost_items.values():
+        for item in canvas.ghosts.items.values():
             p = item.path()
             for k in range(p.elementCount()):
                 assert math.hypot(p.elementAt(k).x - t.x, p.elementAt(k).y - t.y) > 1e-6
@@ -250,7 +250,7 @@ def test_ghost_poses_end_on_their_targets(canvas, rec):
 
 def test_ghost_modes(canvas, rec):
     def drawn():
-        return sum(it.path().elementCount() for it in canvas._ghost_items.values())
+        return sum(it.path().elementCount() for it in canvas.ghosts.items.values())
 
     assert drawn() > 0
     canvas.actions()["ghosts.none"].setChecked(True)
@@ -288,7 +288,7 @@ def test_annulus_follows_a_base_move_with_outer_radius_a1_plus_a2(qtbot, canvas,
 
 def test_shift_drag_on_base_and_handle_drag_turn_the_arm(qtbot, canvas, rec):
     doc = rec.doc
-    hx, hy = canvas._arm_items["a"].handle_point()
+    hx, hy = canvas.bases.items["a"].handle_point()
     _drag(qtbot, canvas, (hx, hy), (300.0, 300.0))  # handle: heading points at the pointer
     assert rec.pushed[-1].label == "Rotate Loader"
     assert doc.cell.arm("a").heading_deg == pytest.approx(45.0)
@@ -334,9 +334,9 @@ def test_clicks_select_and_outside_selection_highlights(qtbot, canvas, rec):
     assert doc.selection.ids == ("t1",)
     _click(qtbot, canvas, -350.0, 250.0, Qt.KeyboardModifier.ControlModifier)
     assert doc.selection.ids == ("t1", "t2")
-    assert len(canvas._select_scatter.data) == 2
+    assert len(canvas.targets.selected.data) == 2
     doc.selection.set(("f1",))
-    assert canvas._fixture_items["f1"].selected and len(canvas._select_scatter.data) == 0
+    assert not canvas.fixtures.halo.path().isEmpty() and len(canvas.targets.selected.data) == 0
     _click(qtbot, canvas, -900.0, 700.0)  # empty canvas
     assert doc.selection.ids == ()
 
@@ -447,7 +447,8 @@ def test_zoom_to_target_centres_it(canvas):
 
 def test_legend_explains_statuses_ghosts_and_fixtures(canvas):
     texts = canvas.legend.texts()
-    assert "fails: out of reach" in texts and "reachable" in texts
+    # One verdict word everywhere: the legend, the table and the report say "feasible".
+    assert "fails: beyond outer reach" in texts and "feasible" in texts
     assert any("chosen" in t for t in texts) and any("also works" in t for t in texts)
     assert any(t.startswith("keep-out") for t in texts)
     assert any("Loader" in t for t in texts)
@@ -460,7 +461,7 @@ def _send_mouse(widget, kind, pos, mods, buttons, button=Qt.MouseButton.NoButton
 
 
 def _labels_of(canvas) -> dict[str, str]:
-    return {name: reason for *_xy, name, reason, _lead in canvas._labels.placed()}
+    return {name: reason for *_xy, name, reason, _lead in canvas.targets.labels.placed()}
 
 
 def test_failure_labels_give_reason_and_amount(qtbot, canvas, rec):
@@ -515,12 +516,13 @@ def test_q1_limit_label_says_how_far_past(qtbot):
 
 def test_regions_are_rebuilt_only_when_arm_geometry_changes(qtbot, canvas, rec):
     doc = rec.doc
-    version = canvas._regions["a"].version
+    rings = canvas.regions.items[("a", "annulus")].data(2)
     _drag(qtbot, canvas, (0.0, 0.0), (120.0, -80.0))
-    assert canvas._regions["a"].version == version  # a move is a transform, not a rebuild
+    # A move is a transform of the same engine rings, not a rebuild.
+    assert canvas.regions.items[("a", "annulus")].data(2) is rings
     arm = doc.cell.arm("a")
     doc.edit("longer", replace(doc.cell, arms=(replace(arm, a2=300.0),)))
-    assert canvas._regions["a"].version == version + 1
+    assert canvas.regions.items[("a", "annulus")].data(2) is not rings
     (item,) = canvas.overlay_items("annulus")
     rect = item.mapRectToParent(item.path().boundingRect())
     assert rect.width() == pytest.approx(2 * (400.0 + 300.0), rel=1e-3)
@@ -553,9 +555,9 @@ def test_tooltip_explains_a_failing_target(qtbot, canvas, rec):
         ),
     )
     text = canvas.target_tooltip("t9")
-    assert "Far (Loader)" in text and "FAIL: beyond outer reach by" in text
+    assert "Far (Loader)" in text and "fails: beyond outer reach by" in text
     ok = canvas.target_tooltip("t1")
-    assert "● ok" in ok and "chosen" in ok
+    assert "● feasible" in ok and "chosen" in ok
 
 
 def test_vertex_menu_rename_and_kind(canvas, rec):
@@ -576,7 +578,6 @@ def test_vertex_menu_rename_and_kind(canvas, rec):
     kinds = next(a for a in menu.actions() if a.text() == "Kind").menu()
     next(a for a in kinds.actions() if a.text() == "guard").trigger()
     assert doc.cell.fixtures[0].kind == "guard"
-    assert canvas._fixture_items["f1"].kind == "guard"
     assert any(t.startswith("guard") for t in canvas.legend.texts())
 
 
@@ -594,7 +595,9 @@ def test_polygon_tool_escape_double_click_and_refusal(qtbot, canvas, rec):
         _click(qtbot, canvas, x, y)
     qtbot.keyClick(canvas.plot, Qt.Key.Key_Return)
     assert len(doc.cell.fixtures) == 2
-    assert messages[-1] == "Cannot add the fixture: outline crosses itself"
+    assert messages[-1].startswith(
+        "Cannot add the fixture: outline must be a simple polygon that does not cross"
+    )
     qtbot.keyClick(canvas.plot, Qt.Key.Key_Backspace)  # drop the crossing corner
     qtbot.mouseDClick(canvas.viewport(), Qt.MouseButton.LeftButton, pos=_vp(canvas, -700.0, 700.0))
     assert len(doc.cell.fixtures) == 3
@@ -646,7 +649,10 @@ def test_snap_pitch_is_kept_per_unit_system(qtbot):
 
 @pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
 def test_canvas_verdicts_match_the_document_after_edits(qtbot, path):
-    # The canvas re-evaluates only changed arms; it must still agree with a full evaluation.
+    # The document re-evaluates only changed arms; the canvas draws that evaluation, which
+    # must agree with a fresh full one.
+    from kinematics.evaluate import evaluate_cell
+
     rec = Recorder(load_cell(path))
     c = CellCanvas(rec.doc)
     qtbot.addWidget(c)
@@ -660,11 +666,16 @@ def test_canvas_verdicts_match_the_document_after_edits(qtbot, path):
             "fx",
             replace(rec.doc.cell, fixtures=(replace(f, outline=moved), *rec.doc.cell.fixtures[1:])),
         )
-    for aid, ev in rec.doc.evaluation.arms.items():
-        mine = c.evaluation(aid)
+    fresh = evaluate_cell(rec.doc.cell)
+    for aid, ev in fresh.arms.items():
+        mine = rec.doc.evaluation.arms[aid]
         assert mine.target_ids == ev.target_ids
         assert np.array_equal(mine.status, ev.status)
         assert np.array_equal(mine.chosen, ev.chosen)
+        assert np.array_equal(mine.clearance, ev.clearance, equal_nan=True)
+    for st in Status:
+        expected = sum(int(np.count_nonzero(e.status == st)) for e in fresh.arms.values())
+        assert c.targets.markers.count(int(st)) == expected
 
 
 def _view_box_px(canvas):
@@ -684,7 +695,7 @@ def test_zoom_to_fit_shows_every_failure_label_whole(qtbot, path, size):
     c.zoom_to_fit()
     c.grab()
     box = _view_box_px(c)
-    placed = c._labels.placed()
+    placed = c.targets.labels.placed()
     failing = []
     for t in doc.cell.targets:
         ev = doc.evaluation.arms[t.arm]
@@ -711,7 +722,7 @@ def test_label_near_the_view_edge_moves_to_the_side_in_view(qtbot, canvas, rec):
     canvas.vb.setRange(xRange=(x0 + shift, x1 + shift), yRange=(y0, y1), padding=0.0)
     canvas.grab()
     box = _view_box_px(canvas)
-    far = next(p for p in canvas._labels.placed() if p[4] == "Far")
+    far = next(p for p in canvas.targets.labels.placed() if p[4] == "Far")
     x, _y, w, _h, _name, reason, lead = far
     assert reason.startswith("✕ beyond outer reach")
     assert x + w + 2 <= box.right() + 1
@@ -761,34 +772,34 @@ def test_a_fixture_hit_turns_a_configuration_down_live(qtbot, canvas, rec):
 
     col = shapely.Polygon(column.outline)
     assert links(poses[0]).intersects(col) and not links(poses[1]).intersects(col)
-    ev = canvas.evaluation("a")
+    ev = canvas.document.evaluation.arms["a"]
     assert bool(ev.feasible[0]) and int(ev.chosen[0]) == 1  # the negative elbow
     canvas.actions()["ghosts.all"].setChecked(True)
-    blocked = canvas._ghost_items[("a", 0, "blocked")].path()
+    blocked = canvas.ghosts.items[("a", 0, "blocked")].path()
     assert blocked.elementCount() == 3  # base, elbow, tool of the positive pose
-    assert canvas._ghost_items[("a", 0, "alternative")].path().elementCount() == 0
+    assert canvas.ghosts.items[("a", 0, "alternative")].path().elementCount() == 0
     elbow = (blocked.elementAt(1).x, blocked.elementAt(1).y)
     assert elbow == pytest.approx(poses[0][1], abs=1e-6)
     tip = canvas.target_tooltip("tc")
-    assert "● ok" in tip and "positive elbow" in tip and "collides with Column" in tip
+    assert "● feasible" in tip and "positive elbow" in tip and "collides with Column" in tip
     # A second column on the other elbow: no configuration is left.
     other = Fixture("c2", "Post", "column", _square(*poses[1][1], 20.0))
     doc.edit("post", replace(doc.cell, fixtures=(*doc.cell.fixtures, other)))
-    ev = canvas.evaluation("a")
+    ev = canvas.document.evaluation.arms["a"]
     assert not bool(ev.feasible[0]) and int(ev.status[0]) == int(Status.COLLISION)
-    assert canvas.markers.count(int(Status.COLLISION)) == 1
+    assert canvas.targets.markers.count(int(Status.COLLISION)) == 1
     canvas.grab()
     assert _labels_of(canvas)["Shelf"].startswith("★ collides with ")
     # A target that fails only on collisions shows where: both poses as ruled-out ghosts
     # (base, elbow, tool each), nothing as chosen or as an option.
-    counts = {k: it.path().elementCount() for k, it in canvas._ghost_items.items()}
+    counts = {k: it.path().elementCount() for k, it in canvas.ghosts.items.items()}
     assert counts[("a", 0, "blocked")] == counts[("a", 1, "blocked")] == 3
     assert sum(n for (_a, _c, role), n in counts.items() if role != "blocked") == 0
-    assert len(canvas.collision_marks.contacts()) == 2  # one contact mark per pose
+    assert len(canvas.collisions.contact_points()) == 2  # one contact mark per pose
     # Moving a column away (a fixture edit, no arm or target changed) frees the pose again.
     moved = replace(other, outline=tuple((x + 400.0, y) for x, y in other.outline))
     doc.edit("move post", replace(doc.cell, fixtures=(*doc.cell.fixtures[:-1], moved)))
-    ev = canvas.evaluation("a")
+    ev = canvas.document.evaluation.arms["a"]
     assert bool(ev.feasible[0]) and int(ev.chosen[0]) == 1
 
 
@@ -870,4 +881,4 @@ def test_legend_steps_aside_in_a_narrow_canvas_and_scrolls_in_a_short_one(qtbot,
     QApplication.processEvents()
     assert area.isVisible() and area.verticalScrollBar().maximum() > 0
     # A ghost that is ruled out is explained too (limits or a fixture in the way).
-    assert any(t.endswith("other, not usable") for t in canvas.legend.texts())
+    assert any(t.endswith("no option here") for t in canvas.legend.texts())

@@ -22,7 +22,8 @@ from PySide6.QtCore import QPoint, QPointF, Qt
 from PySide6.QtWidgets import QGraphicsItem
 
 from app.canvas import CellCanvas
-from app.canvas.clearance import CLEARANCE_OVERLAYS, place_notes
+from app.canvas.canvas import CLEARANCE_OVERLAYS
+from app.canvas.layers.notes import place_notes
 from app.document import Document
 from kinematics.cellfile import load_cell
 from kinematics.ik import Status
@@ -68,7 +69,7 @@ def _scene_tags(canvas, prefix: str) -> list[str]:
 
 
 def _labels_of(canvas) -> dict[str, str]:
-    return {name: reason for *_xy, name, reason, _lead in canvas._labels.placed()}
+    return {name: reason for *_xy, name, reason, _lead in canvas.targets.labels.placed()}
 
 
 def _pose(arm, q1: float, q2: float):
@@ -96,7 +97,7 @@ def test_column_cell_flags_the_negative_pose_link_1_at_the_nest(qtbot):
     cell = doc.cell
     arm = cell.arms[0]
     column = next(f for f in cell.fixtures if f.id == "column")
-    ev = c.evaluation("arm")
+    ev = doc.evaluation.arms["arm"]
     i = ev.index("nest")
     q_neg = ev.ik.q_deg[i, 1]
     # Reference: shapely finds the negative pose's link 1 in the column, the positive clear.
@@ -109,17 +110,28 @@ def test_column_cell_flags_the_negative_pose_link_1_at_the_nest(qtbot):
     # capsule inside the column, and a contact mark sits in or on the column.
     overlap = _links(arm, *q_neg)["link 1"].intersection(col)
     mid = overlap.representative_point()
-    path = c.collision_marks.body_items()["arm"].path()
+    # The nest is feasible in its positive configuration: the negative one's collision is
+    # drawn as a configuration the target does not use, apart from those that make a
+    # target fail (the spare nest's).
+    items = c.collisions.body_items()
+    path = items[("arm", "other")].path()
     assert path.contains(QPointF(mid.x, mid.y))
-    contacts = c.collision_marks.contacts()
+    assert not items[("arm", "fails")].path().contains(QPointF(mid.x, mid.y))
+    contacts = c.collisions.contact_points()
     assert any(col.buffer(1e-6).contains(shapely.Point(p)) for p in contacts)
-    # The column is marked hit (not by colour alone: a dashed edge and a label naming the arm
-    # and the body).
-    assert c._fixture_items["column"].hit
-    assert not c._fixture_items["nest_table"].hit
-    (label,) = c.collision_marks.label_texts().values()
-    assert label.startswith("hit by Nest loader link 1")
-    assert c._notes.tags("collision.label:") == ["collision.label:column"]
+    # The column is marked hit (not by colour alone: a dashed edge and a note naming the
+    # target, the configuration and the body).
+    edges = c.collisions.hit_item.path()
+    cx, cy = col.centroid.coords[0]
+    assert edges.contains(QPointF(cx, cy))
+    table = shapely.Polygon(next(f for f in cell.fixtures if f.id == "nest_table").outline)
+    tx, ty = table.representative_point().coords[0]
+    assert not edges.contains(QPointF(tx, ty)) or col.contains(shapely.Point(tx, ty))
+    (label,) = c.collisions.label_texts().values()
+    lines = label.split("\n")
+    assert lines[0].startswith("hit by Nest loader at Spare nest (")
+    assert "other configuration: Nest (negative elbow, link 1)" in lines
+    assert c.notes.tags("collision.label:") == ["collision.label:column"]
     # The failing target says what it hits.
     c.grab()
     assert _labels_of(c)["Spare nest"].startswith("★ collides with Building column C4 (")
@@ -135,7 +147,7 @@ def test_dragging_the_column_onto_a_clear_targets_links_fails_it_live_and_esc_re
     c = _canvas(qtbot, doc)
     cell0 = doc.cell
     arm = cell0.arms[0]
-    ev = c.evaluation("arm")
+    ev = doc.evaluation.arms["arm"]
     i = ev.index("pick")
     assert int(ev.status[i]) == int(Status.OK) and not ev.collides[i].any()
     # Aim the column's centre at 80 % along link 2 of the chosen pose.
@@ -158,16 +170,16 @@ def test_dragging_the_column_onto_a_clear_targets_links_fails_it_live_and_esc_re
     # Reference: shapely puts link 2 of both configurations into the moved column.
     for k in (0, 1):
         assert _links(arm, *ev.ik.q_deg[i, k])["link 2"].intersects(col)
-    live = c.evaluation("arm")
+    live = doc.evaluation.arms["arm"]
     assert int(live.status[i]) == int(Status.COLLISION)
     assert live.reason(i) == "collides with Building column C4"
-    assert c.markers.count(int(Status.COLLISION)) >= 1
-    assert c._fixture_items["column"].hit
+    assert c.targets.markers.count(int(Status.COLLISION)) >= 1
+    assert "column" in c.collisions.label_texts()
     assert np.array_equal(live.status, doc.evaluation.arms["arm"].status)
     # Esc: the document is exactly as before and the target clear again.
     qtbot.keyClick(c.plot, Qt.Key.Key_Escape)
     assert doc.cell is cell0 and not doc.previewing
-    back = c.evaluation("arm")
+    back = doc.evaluation.arms["arm"]
     assert int(back.status[i]) == int(Status.OK)
     assert rec.pushed == []
 
@@ -191,21 +203,21 @@ def test_spaces_are_computed_only_while_shown_and_follow_a_base_move(qtbot):
     rec = Recorder(load_cell(COLUMN))
     doc = rec.doc
     c = _canvas(qtbot, doc)
-    over = c.clearance_overlays
-    assert over._spaces == {}  # nothing computed while the overlays are off
+    store = doc.evaluation.store
+    assert store.local_spaces == {}  # nothing computed while the overlays are off
     c.actions()["overlay.space.restricted"].setChecked(True)
-    assert list(over._spaces) == [("arm", "space.restricted")]
-    space = over._spaces[("arm", "space.restricted")]
+    assert len(store.local_spaces) == 1
     (item,) = c.overlay_items("space.restricted")
+    rings = item.data(2)
     arm = doc.cell.arms[0]
     r0 = item.mapRectToParent(item.path().boundingRect())
     # Reference (annulus law plus the bodies): with q1 over +-140 the space reaches out to
     # a1 + a2 + the tool's radius on the far side of the heading (+y here).
     reach = arm.a1 + arm.a2 + 28.0
     assert r0.bottom() == pytest.approx(arm.y + reach, abs=0.01 * reach)
-    # A base drag step moves the drawn space rigidly: no recomputation.
+    # A base drag step moves the drawn space rigidly: the same engine rings, moved.
     doc.preview(replace(doc.cell, arms=(replace(arm, x=arm.x + 120.0, y=arm.y - 40.0),)))
-    assert over._spaces[("arm", "space.restricted")] is space
+    assert item.data(2) is rings and len(store.local_spaces) == 1
     r1 = item.mapRectToParent(item.path().boundingRect())
     assert (r1.center().x() - r0.center().x(), r1.center().y() - r0.center().y()) == pytest.approx(
         (120.0, -40.0), abs=1e-6
@@ -246,10 +258,10 @@ def test_swept_areas_wait_for_a_pause_and_mark_a_colliding_move(qtbot):
     doc.edit("post", replace(doc.cell, fixtures=doc.cell.fixtures + (post,)))
     looks = sorted(it.data(1) for it in c.overlay_items("swept") if it.data(1))
     assert looks == ["swept.collides", "swept.collides"]
-    notes = c._notes.texts("overlay.swept.note")
-    assert notes == ["✕ moves Infeed pick ⇄ Nest collide with Post P1"]  # one note for both
-    assert c._fixture_items["post"].hit
-    assert any("on moves pick ⇄ nest" in t for t in c.collision_marks.label_texts().values())
+    notes = c.notes.texts("overlay.swept.note")
+    (note,) = notes  # one note for both
+    assert note.startswith("✕ moves Infeed pick ⇄ Nest: collides with Post P1 (")
+    assert any("on moves pick ⇄ nest" in t for t in c.collisions.label_texts().values())
 
 
 def test_shared_zone_and_targets_several_arms_reach(qtbot):
@@ -263,11 +275,11 @@ def test_shared_zone_and_targets_several_arms_reach(qtbot):
     # circles (350 + 250 = 600); the left base is 950 from the right base, beyond its reach.
     assert restricted.contains(QPointF(475.0, 0.0))
     assert not restricted.contains(QPointF(0.0, 0.0))
-    notes = c._notes.texts("overlay.shared.note")
+    notes = c.notes.texts("overlay.shared.note")
     assert notes and all(t.startswith("shared zone: interlock needed") for t in notes)
     assert "shared zone: interlock needed" in c.legend.texts()
     # Targets both arms reach (on by default) are ringed: the two handover targets.
-    assert set(c.clearance_overlays.shared_target_ids()) == {"handover_put", "handover_take"}
+    assert set(c.spaces.shared_ids) == {"handover_put", "handover_take"}
     for t in doc.cell.targets:
         if t.id.startswith("handover"):
             for a in doc.cell.arms:
@@ -288,24 +300,32 @@ def test_fixtures_passed_over_follow_the_height_rule(qtbot):
         if f.height is not None and f.height < arm.link_underside_height
     )
     assert tags == expected == ["overlay.passes_over:infeed", "overlay.passes_over:nest_table"]
-    notes = c._notes.texts("overlay.passes_over.note")
+    notes = c.notes.texts("overlay.passes_over.note")
     assert any("height 720 mm" in t and "underside 800" in t for t in notes)
 
 
 @pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
-def test_canvas_clearance_verdicts_equal_the_documents_after_edits(qtbot, path):
+def test_the_incremental_evaluation_equals_a_fresh_one_after_edits(qtbot, path):
+    # The document re-evaluates only the arms a change touches and the canvas draws that
+    # evaluation: after every kind of edit it must equal a fresh full evaluation.
+    from kinematics.evaluate import evaluate_cell
+
     rec = Recorder(load_cell(path))
     doc = rec.doc
     c = CellCanvas(doc)
     qtbot.addWidget(c)
 
     def agree():
-        for aid, ev in doc.evaluation.arms.items():
-            mine = c.evaluation(aid)
+        fresh = evaluate_cell(doc.cell)
+        for aid, ev in fresh.arms.items():
+            mine = doc.evaluation.arms[aid]
             assert mine.target_ids == ev.target_ids
-            for name in ("status", "chosen", "feasible", "collides", "clearance_fixture"):
+            for name in ("status", "chosen", "feasible", "collides"):
                 assert np.array_equal(getattr(mine, name), getattr(ev, name)), name
             assert np.array_equal(mine.clearance, ev.clearance, equal_nan=True)
+            assert [f.id for f in mine.fixtures] == [f.id for f in ev.fixtures]
+        drawn = sum(c.targets.markers.count(int(st)) for st in Status)
+        assert drawn == len(doc.cell.targets)
 
     agree()
     cell = doc.cell
@@ -350,12 +370,79 @@ def test_notes_sit_whole_in_the_plot_area_and_apart(qtbot, path):
     for key in CLEARANCE_OVERLAYS:
         c.actions()[f"overlay.{key}"].setChecked(True)
     c.grab()  # target labels are laid out when painted
-    c._notes.layout()
+    c.notes.layout()
     left, top, right, bottom = c.note_view()
-    rects = list(c._notes.rects().values())
+    rects = list(c.notes.rects().values())
     assert rects
     for x0, y0, x1, y1 in rects:
         assert left <= x0 and x1 <= right and top <= y0 and y1 <= bottom
     for i, a in enumerate(rects):
         for b in rects[i + 1 :]:
             assert min(a[2], b[2]) <= max(a[0], b[0]) or min(a[3], b[3]) <= max(a[1], b[1])
+
+
+def _drawn_area(item) -> float:
+    """Area of the engine rings an overlay item draws, placed by the item's transform
+    (shoelace sum over the rings: shells counter-clockwise, holes clockwise)."""
+    rings, tr = item.data(2), item.transform()
+    xy = rings.xy
+    x = tr.m11() * xy[:, 0] + tr.m21() * xy[:, 1] + tr.dx()
+    y = tr.m12() * xy[:, 0] + tr.m22() * xy[:, 1] + tr.dy()
+    total, start = 0.0, 0
+    for end in rings.ends.tolist():
+        rx, ry = x[start:end], y[start:end]
+        total += 0.5 * float(np.dot(rx[:-1], ry[1:]) - np.dot(rx[1:], ry[:-1]))
+        start = end
+    return abs(total)
+
+
+@pytest.mark.parametrize("path", SAMPLES, ids=[p.name for p in SAMPLES])
+def test_every_overlay_area_equals_the_check_report(qtbot, path, capsys):
+    # The window draws exactly the engine's polygons: each overlay's area equals the figure
+    # `check --json` prints for it (to 1e-9 relative), and the reach annulus the closed form
+    # pi ((a1 + a2)^2 - (a1 - a2)^2) (annulus law; check-values.md, standard closed form).
+    import json
+
+    from app.cli import main
+
+    main(["check", str(path), "--json"])
+    report = json.loads(capsys.readouterr().out)
+    c = _canvas(qtbot, Document(load_cell(path)))
+    for key in (
+        "annulus",
+        "both",
+        "space.maximum",
+        "space.restricted",
+        "space.operating",
+        "shared",
+    ):
+        c.actions()[f"overlay.{key}"].setChecked(True)
+    arms = {a["id"]: a for a in report["arms"]}
+    cell = c.document.cell
+    checked = 0
+    for arm in cell.arms:
+        figures = {
+            "both": arms[arm.id]["both_elbows_area"],
+            "space.maximum": arms[arm.id]["spaces"]["maximum_area"],
+            "space.restricted": arms[arm.id]["spaces"]["restricted_area"],
+            "space.operating": arms[arm.id]["spaces"]["operating_area"],
+        }
+        for key, figure in figures.items():
+            items = [it for it in c.overlay_items(key) if it.data(0).endswith(f":{arm.id}")]
+            if figure is None:
+                assert items == []
+                continue
+            (item,) = items
+            # The report rounds areas to 3 decimals.
+            assert _drawn_area(item) == pytest.approx(figure, rel=1e-9, abs=5e-4), (arm.id, key)
+            checked += 1
+        (ring,) = [it for it in c.overlay_items("annulus") if it.data(0).endswith(f":{arm.id}")]
+        exact = math.pi * ((arm.a1 + arm.a2) ** 2 - (arm.a1 - arm.a2) ** 2)
+        assert _drawn_area(ring) == pytest.approx(exact, rel=1e-6)
+    drawn = {it.data(0): it for it in c.overlay_items("shared")}
+    assert len(drawn) == len(report["shared_zones"])
+    for z in report["shared_zones"]:
+        item = drawn[f"overlay.shared:{z['arms'][0]}+{z['arms'][1]}:{z['space']}"]
+        assert _drawn_area(item) == pytest.approx(z["area"], rel=1e-9, abs=5e-4)
+        checked += 1
+    assert checked >= 3 * len(cell.arms)

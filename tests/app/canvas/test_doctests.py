@@ -1,4 +1,4 @@
-"""Run the examples in the canvas modules' docstrings (app/ is outside the doctest paths)."""
+"""Run the examples in the app's docstrings (app/ is outside the doctest paths)."""
 
 from __future__ import annotations
 
@@ -6,10 +6,13 @@ import doctest
 
 import pytest
 
-from app.canvas import clearance, edits, items, snapping
+from app.canvas import view
+from app.interaction import drag, edits, fit, snapping, tools
 
 
-@pytest.mark.parametrize("module", [snapping, edits, items, clearance], ids=lambda m: m.__name__)
+@pytest.mark.parametrize(
+    "module", [snapping, edits, drag, tools, fit, view], ids=lambda m: m.__name__
+)
 def test_docstring_examples(module):
     result = doctest.testmod(module)
     assert result.attempted > 0

@@ -1,8 +1,9 @@
 """Where a dragged point snaps, whether a shape may take a new form, and measuring.
 
-Pure Python and numpy (plus shapely for polygon validity), no Qt, so the rules
-of direct manipulation are tested without a display. Coordinates are in the
-cell's units; the screen-pixel snap radius is converted by the caller.
+Pure Python and numpy, no Qt (polygon validity is the engine's one check,
+:func:`kinematics.checks.polygon_problem`), so the rules of direct manipulation are
+tested without a display. Coordinates are in the cell's units; the screen-pixel snap
+radius is converted by the caller.
 """
 
 from __future__ import annotations
@@ -12,9 +13,9 @@ from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from shapely.geometry import Polygon
 
 from kinematics.cell import Fixture
+from kinematics.checks import polygon_problem
 
 __all__ = [
     "SnapResult",
@@ -161,32 +162,19 @@ def measure(p0: Point, p1: Point) -> tuple[float, float]:
 
 
 def outline_problem(points: Sequence[Point]) -> str:
-    """Why ``points`` is not a usable fixture outline, '' when it is.
+    """Why ``points`` is not a usable fixture outline ("outline must ..."), '' when it is.
 
-    A fixture outline must have at least three distinct vertices, enclose some
-    area and not cross itself (the file format rejects such outlines too).
+    The rule is the cell file's (:func:`kinematics.checks.polygon_problem`).
 
     Examples
     --------
     >>> outline_problem([(0, 0), (1, 0), (1, 1)])
     ''
-    >>> outline_problem([(0, 0), (1, 1), (1, 0), (0, 1)])
-    'outline crosses itself'
+    >>> outline_problem([(0, 0), (1, 1), (1, 0), (0, 1)]).split(" (")[0]
+    'outline must be a simple polygon that does not cross or touch itself'
     """
-    pts = [(float(x), float(y)) for x, y in points]
-    if len(pts) < 3:
-        return "an outline needs at least 3 vertices"
-    if not all(math.isfinite(v) for p in pts for v in p):
-        return "outline has a non-finite coordinate"
-    distinct = {p for p in pts}
-    if len(distinct) < 3:
-        return "an outline needs at least 3 distinct vertices"
-    poly = Polygon(pts)
-    if not poly.is_valid:
-        return "outline crosses itself"
-    if poly.area <= 0:
-        return "outline encloses no area"
-    return ""
+    problem = polygon_problem(points)
+    return "" if problem is None else f"outline {problem}"
 
 
 def may_move_vertex(outline: Sequence[Point], index: int, xy: Point) -> bool:

@@ -1,34 +1,34 @@
-"""The moves of a cell's sequences, computed once per change of what each move depends on.
+"""The moves of a cell's sequences, each computed once per state of what it depends on.
 
-Plain Python (no Qt). Moves are expensive (the clearance along a joint path is sampled
-finely), so the problems list and the canvas share one cache: a move is recomputed only
-when its arm, the fixtures, the clearance margin, one of its two targets or the
-configuration chosen at either end changed. Results are exactly those of
-:func:`kinematics.sweep.sequence_moves`, so they agree with ``check``.
+Moves are expensive (the clearance along a joint path is sampled finely), so a
+:class:`MoveCache` keeps every move keyed by everything it depends on: the arm, the
+fixtures it can reach, the clearance margin, its two targets and the configurations
+chosen at both ends. Successive evaluations of a changing cell share one cache
+(:func:`kinematics.evaluate.evaluate_cell` passes it on), so a drag recomputes only the
+moves it changes. Results are exactly those of :func:`kinematics.sweep.sequence_moves`.
 """
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
-from dataclasses import dataclass
+from collections.abc import Iterable
 from typing import Any
 
-from kinematics.bodies import BodyDataError, arm_bodies, clearance_margin
-from kinematics.cell import Cell
-from kinematics.sweep import MoveResult, sequence_moves
+from .bodies import BodyDataError, clearance_margin
+from .cell import Cell
+from .sweep import MoveResult, sequence_moves
 
-__all__ = ["MoveCache", "EvaluationView", "move_pairs", "move_body", "SHARED"]
-
-
-@dataclass(frozen=True)
-class EvaluationView:
-    """Anything with per-arm evaluations, shaped like a ``CellEvaluation`` for the engine."""
-
-    arms: Mapping[str, Any]
+__all__ = ["MoveCache", "move_pairs"]
 
 
 def move_pairs(cell: Cell, arms: Iterable[str] | None = None) -> list[tuple[str, str, str]]:
-    """(arm, from, to) of every move of the cell's sequences, in order (sequences are cycles)."""
+    """(arm, from, to) of every move of the cell's sequences, in order (sequences are cycles).
+
+    Examples
+    --------
+    >>> from kinematics.cell import Sequence
+    >>> move_pairs(Cell("c", sequences=(Sequence("a", ("p", "q", "r")),)))
+    [('a', 'p', 'q'), ('a', 'q', 'r'), ('a', 'r', 'p')]
+    """
     wanted = None if arms is None else set(arms)
     out = []
     for seq in cell.sequences:
@@ -40,18 +40,6 @@ def move_pairs(cell: Cell, arms: Iterable[str] | None = None) -> list[tuple[str,
             pairs.append((ids[-1], ids[0]))
         out.extend((seq.arm, a, b) for a, b in pairs)
     return out
-
-
-def move_body(cell: Cell, move: MoveResult) -> str | None:
-    """Name of the body ("link 1", "tool", ...) at the smallest clearance of a colliding move."""
-    if not move.collides or move.sweep is None or move.sweep.body < 0:
-        return None
-    try:
-        names = arm_bodies(cell.arm(move.arm)).names
-    except (KeyError, BodyDataError):
-        return None
-    b = move.sweep.body
-    return names[b] if b < len(names) else None
 
 
 def _end(ev: Any, tid: str) -> tuple[float, float] | None:
@@ -125,14 +113,12 @@ class MoveCache:
             keep = {(arm_id, a, b) for arm_id, a, b in move_pairs(cell)}
             self._store = {k: v for k, v in self._store.items() if k[:3] in keep}
         for arm_id, a, b in pairs:
-            try:
-                arm = cell.arm(arm_id)
-            except KeyError:
-                continue
             ev = evaluation.arms.get(arm_id)
+            if ev is None:
+                continue
             sig = (
-                arm,
-                cell.fixtures,
+                ev.arm,
+                ev.fixtures,
                 margin,
                 by_id.get(a),
                 by_id.get(b),
@@ -146,10 +132,7 @@ class MoveCache:
                     hit = entry[1]
                     break
             if hit is None and compute:
-                try:
-                    hit = sequence_moves(cell, evaluation, arm_id, [a, b], False, polygons)[0]
-                except BodyDataError:
-                    continue
+                hit = sequence_moves(cell, evaluation, arm_id, [a, b], False, polygons)[0]
                 self.computed += 1
                 self._store[(arm_id, a, b, polygons)] = (sig, hit)
             out.append(((arm_id, a, b), hit))
@@ -158,7 +141,3 @@ class MoveCache:
     def clear(self) -> None:
         """Forget every stored move."""
         self._store.clear()
-
-
-#: The cache the problems list and the canvas share.
-SHARED = MoveCache()

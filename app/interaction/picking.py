@@ -12,7 +12,6 @@ from collections.abc import Mapping
 from dataclasses import dataclass
 
 import numpy as np
-import shapely
 
 from kinematics.cell import Cell
 
@@ -84,11 +83,28 @@ def pick(
     if best is not None:
         return Hit("vertex", best[1], best[2])
     # Topmost (last drawn) fixture first; an edge within the radius counts as the body.
-    pt = shapely.Point(x, y)
     for f in reversed(cell.fixtures):
         if len(f.outline) < 3:
             continue
-        poly = shapely.Polygon(f.outline)
-        if poly.contains(pt) or poly.exterior.distance(pt) <= radius:
+        xy = np.asarray(f.outline, dtype=float)
+        if _inside(xy, x, y) or _edge_distance(xy, x, y) <= radius:
             return Hit("fixture", f.id)
     return None
+
+
+def _inside(xy: np.ndarray, x: float, y: float) -> bool:
+    """Point strictly inside a polygon (even-odd rule)."""
+    p, q = xy, np.roll(xy, -1, axis=0)
+    cross = (p[:, 1] > y) != (q[:, 1] > y)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        xint = p[:, 0] + (y - p[:, 1]) * (q[:, 0] - p[:, 0]) / (q[:, 1] - p[:, 1])
+    return bool(np.count_nonzero(cross & (x < xint)) % 2)
+
+
+def _edge_distance(xy: np.ndarray, x: float, y: float) -> float:
+    """Distance from a point to a polygon's outline."""
+    p, q = xy, np.roll(xy, -1, axis=0)
+    d = q - p
+    dd = np.maximum(np.sum(d * d, axis=1), 1e-300)
+    t = np.clip(((x - p[:, 0]) * d[:, 0] + (y - p[:, 1]) * d[:, 1]) / dd, 0.0, 1.0)
+    return float(np.min(np.hypot(p[:, 0] + t * d[:, 0] - x, p[:, 1] + t * d[:, 1] - y)))

@@ -1,8 +1,9 @@
-"""Graphics items of the cell canvas, drawn in world coordinates (the cell's units).
+"""Targets: status markers (shape, colour and glyph per status) and name labels.
 
-Pens are cosmetic (pixel widths) and texts are painted in device space so they
-stay readable at any zoom. Items are built once and then updated in place
-(``set_*`` methods, ``setPath``), which keeps a drag step cheap.
+Both are drawn at pixel size: markers as one image per arm (redrawn only when that
+arm's markers change, and clipped to the view so images never grow with the zoom),
+labels as one small image each, laid out greedily so they overlap neither each other
+nor the markers, failure reasons first.
 """
 
 from __future__ import annotations
@@ -12,245 +13,17 @@ import math
 import numpy as np
 import pyqtgraph as pg
 from pyqtgraph.graphicsItems.ScatterPlotItem import drawSymbol
-from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import (
-    QBrush,
-    QColor,
-    QFont,
-    QFontMetricsF,
-    QImage,
-    QPainter,
-    QPainterPath,
-    QPen,
-    QTransform,
-)
-from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem, QGraphicsView
+from PySide6.QtCore import QPointF, QRectF
+from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QImage, QPainter, QPen, QTransform
 
 from app import style
+from kinematics.ik import Status
+from kinematics.wording import target_reason
 
-from .qtstyle import FixtureLook, colour, cosmetic_pen, mixed
+from ..qtstyle import colour
+from . import Frame, Host, Z
 
-__all__ = [
-    "polygon_path",
-    "geometry_path",
-    "polylines_path",
-    "translate_rotate",
-    "FixtureItem",
-    "ArmItem",
-    "LabelsItem",
-    "MarkersItem",
-    "ScaleBar",
-    "PlanView",
-    "Grid",
-    "nice_length",
-    "LABEL_GAP",
-    "MARKER_HALF",
-]
-
-
-def polygon_path(points) -> QPainterPath:
-    """A closed path through ``points`` (sequence of (x, y))."""
-    xy = np.asarray(points, dtype=float).reshape(-1, 2)
-    if len(xy) < 2:
-        return QPainterPath()
-    xy = np.vstack([xy, xy[:1]])
-    return pg.arrayToQPath(xy[:, 0], xy[:, 1], connect="all")
-
-
-def geometry_path(geom) -> QPainterPath:
-    """A QPainterPath for a shapely Polygon or MultiPolygon, holes included.
-
-    All rings go into one path (odd-even fill makes holes empty whatever their
-    winding); one path item per region is far cheaper to draw than many.
-    """
-    rings: list[np.ndarray] = []
-    if geom is not None and not geom.is_empty:
-        parts = getattr(geom, "geoms", None)
-        for poly in parts if parts is not None else (geom,):
-            if poly.geom_type != "Polygon" or poly.is_empty:
-                continue
-            for ring in (poly.exterior, *poly.interiors):
-                xy = np.asarray(ring.coords, dtype=float)
-                if len(xy) >= 3:
-                    rings.append(xy)
-    if not rings:
-        path = QPainterPath()
-        path.setFillRule(Qt.FillRule.OddEvenFill)
-        return path
-    xy = np.vstack(rings)
-    connect = np.ones(len(xy), dtype=np.int32)
-    ends = np.cumsum([len(r) for r in rings]) - 1
-    connect[ends] = 0
-    path = pg.arrayToQPath(xy[:, 0], xy[:, 1], connect=connect)
-    path.setFillRule(Qt.FillRule.OddEvenFill)
-    return path
-
-
-def polylines_path(points: np.ndarray) -> QPainterPath:
-    """Path of several polylines given as an array (K, M, 2): K lines of M points."""
-    pts = np.asarray(points, dtype=float)
-    if pts.size == 0:
-        return QPainterPath()
-    k, m, _ = pts.shape
-    connect = np.ones((k, m), dtype=np.int32)
-    connect[:, -1] = 0
-    flat = pts.reshape(-1, 2)
-    return pg.arrayToQPath(flat[:, 0], flat[:, 1], connect=connect.ravel())
-
-
-def translate_rotate(x0: float, y0: float, h0: float, x: float, y: float, h: float) -> QTransform:
-    """Transform taking geometry built for base pose (x0, y0, h0) to pose (x, y, h)."""
-    t = QTransform()
-    t.translate(x, y)
-    t.rotate(h - h0)
-    t.translate(-x0, -y0)
-    return t
-
-
-class FixtureItem(QGraphicsPathItem):
-    """A fixture outline: the kind's pattern and edge over a faint solid underlay."""
-
-    def __init__(self, kind: str, look: FixtureLook) -> None:
-        super().__init__()
-        self.selected = False
-        self._under = QGraphicsPathItem(self)
-        self._under.setFlag(QGraphicsItem.GraphicsItemFlag.ItemStacksBehindParent, True)
-        self._under.setPen(QPen(Qt.PenStyle.NoPen))
-        self.set_look(kind, look)
-        self._halo = QGraphicsPathItem(self)
-        self._halo.setFlag(QGraphicsItem.GraphicsItemFlag.ItemStacksBehindParent, True)
-        self._halo.setPen(cosmetic_pen(style.PALETTE["harbour"], 8.0, alpha=0.45))
-        self._halo.setVisible(False)
-        # Hit by a colliding body (the canvas draws the thick dashed edges of all hit
-        # fixtures as one item, cheaper than one more item per fixture).
-        self.hit = False
-
-    def setCacheMode(self, mode, *args) -> None:  # noqa: N802 (Qt name)
-        # The underlay and halo are child items: cache them the same way.
-        super().setCacheMode(mode, *args)
-        self._under.setCacheMode(mode, *args)
-        self._halo.setCacheMode(mode, *args)
-
-    def set_look(self, kind: str, look: FixtureLook) -> None:
-        self.kind, self.look = kind, look
-        self.setPen(look.pen)
-        self.setBrush(look.brush)
-        self._under.setBrush(look.base_brush)
-
-    def set_outline(self, points) -> None:
-        path = polygon_path(points)
-        self.setPath(path)
-        self._under.setPath(path)
-        self._halo.setPath(path)
-
-    def set_selected(self, on: bool) -> None:
-        self.selected = on
-        self._halo.setVisible(on)
-
-    def set_hit(self, on: bool) -> None:
-        """Record whether a colliding body hits the fixture."""
-        self.hit = on
-
-
-class ArmItem(pg.GraphicsObject):
-    """An arm base: footprint circle, heading arrow with a rotate handle, and its name."""
-
-    def __init__(self, colour_hex: str) -> None:
-        super().__init__()
-        self.colour_hex = colour_hex
-        self.x = self.y = 0.0
-        self.heading = 0.0
-        self.radius = 1.0
-        self.arrow = 1.0
-        self.name = ""
-        self.selected = False
-        self._bounds: QRectF | None = None
-        self._font = QFont()
-        self._font.setBold(True)
-
-    def set_arm(self, arm, radius: float, arrow: float) -> None:
-        self.prepareGeometryChange()
-        if (arm.name, float(radius), float(arrow)) != (self.name, self.radius, self.arrow):
-            self._bounds = None
-        self.x, self.y, self.heading = float(arm.x), float(arm.y), float(arm.heading_deg)
-        self.radius, self.arrow, self.name = float(radius), float(arrow), arm.name
-        self.update()
-
-    def set_selected(self, on: bool) -> None:
-        if on != self.selected:
-            self.selected = on
-            self.update()
-
-    def handle_point(self) -> tuple[float, float]:
-        """World position of the rotate handle at the tip of the heading arrow."""
-        h = math.radians(self.heading)
-        return self.x + self.arrow * math.cos(h), self.y + self.arrow * math.sin(h)
-
-    def viewTransformChanged(self) -> None:
-        super().viewTransformChanged()
-        self.prepareGeometryChange()  # the pixel-sized name and marks change world size
-        self._bounds = None
-
-    def boundingRect(self) -> QRectF:
-        if self._bounds is None:
-            # The name and pixel-sized marks extend past the footprint: a margin in pixels.
-            vx, _vy = self.pixelVectors()
-            px = math.hypot(vx.x(), vx.y()) if vx is not None else 0.0
-            name_px = QFontMetricsF(self._font).horizontalAdvance(self.name) + 50.0
-            r = max(self.radius, self.arrow) + name_px * px
-            self._bounds = QRectF(-r, -r, 2 * r, 2 * r)
-        return self._bounds.translated(self.x, self.y)
-
-    def paint(self, painter, option, widget=None) -> None:
-        painter.setRenderHint(painter.RenderHint.Antialiasing, True)
-        c = self.colour_hex
-        centre = QPointF(self.x, self.y)
-        if self.selected:
-            painter.setPen(cosmetic_pen(style.PALETTE["harbour"], 9.0, alpha=0.45))
-            painter.setBrush(Qt.BrushStyle.NoBrush)
-            painter.drawEllipse(centre, self.radius, self.radius)
-        painter.setPen(cosmetic_pen(c, 2.0))
-        painter.setBrush(QBrush(colour(c, 0.30)))
-        painter.drawEllipse(centre, self.radius, self.radius)
-        hx, hy = self.handle_point()
-        tip = QPointF(hx, hy)
-        painter.setPen(cosmetic_pen(c, 2.5))
-        painter.drawLine(centre, tip)
-        # Arrow head, handle, centre cross and name in device pixels.
-        tr = painter.transform()
-        dc, dt = tr.map(centre), tr.map(tip)
-        edge = tr.map(QPointF(self.x + self.radius, self.y))
-        rad_px = math.hypot(edge.x() - dc.x(), edge.y() - dc.y())
-        painter.save()
-        painter.resetTransform()
-        ang = math.atan2(dt.y() - dc.y(), dt.x() - dc.x())
-        pen = QPen(colour(c))
-        pen.setWidthF(2.5)
-        painter.setPen(pen)
-        head = 10.0
-        for s in (-1, 1):
-            a = ang + math.pi + s * 0.45
-            painter.drawLine(dt, dt + QPointF(head * math.cos(a), head * math.sin(a)))
-        painter.setBrush(QBrush(QColor(style.PAPER)))
-        painter.drawEllipse(dt, 5.5, 5.5)  # rotate handle
-        painter.setPen(QPen(QColor(style.INK), 1.5))
-        painter.drawLine(dc + QPointF(-5, 0), dc + QPointF(5, 0))
-        painter.drawLine(dc + QPointF(0, -5), dc + QPointF(0, 5))
-        painter.setFont(self._font)
-        # Name on the side away from the heading arrow, clear of the footprint.
-        fm = QFontMetricsF(self._font)
-        w, h = fm.horizontalAdvance(self.name), fm.height()
-        ux, uy = -math.cos(ang), -math.sin(ang)
-        off = max(rad_px, 6.0) + 6.0
-        cx = dc.x() + ux * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
-        cy = dc.y() + uy * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
-        p = QPointF(cx - w / 2, cy - h / 2 + fm.ascent())
-        halo = QColor(style.PAPER)
-        halo.setAlphaF(0.85)
-        painter.fillRect(QRectF(p.x() - 2, p.y() - fm.ascent(), w + 4, fm.height()), halo)
-        painter.setPen(QColor(c))
-        painter.drawText(p, self.name)
-        painter.restore()
+__all__ = ["MARKER_HALF", "LABEL_GAP", "MarkersItem", "LabelsItem", "TargetsLayer"]
 
 
 MARKER_HALF = 6.5  # half the drawn marker size, pixels
@@ -419,11 +192,24 @@ class MarkersItem(_ImageLayer):
     def _prepare(self, tr: QTransform, vr: QRectF | None) -> dict[object, tuple[object, QRectF]]:
         boxes = {}
         self._dev = {}
-        for g, (xy, _st, version) in self._groups.items():
+        view = tr.mapRect(vr) if vr is not None else None
+        for g, (xy, status, version) in self._groups.items():
             if not len(xy):
                 continue
             dev = _to_device(tr, xy)
-            self._dev[g] = dev
+            if view is not None:
+                # Only markers in view: the group's image never grows with the zoom.
+                m = self._size
+                keep = (
+                    (dev[:, 0] >= view.left() - m)
+                    & (dev[:, 0] <= view.right() + m)
+                    & (dev[:, 1] >= view.top() - m)
+                    & (dev[:, 1] <= view.bottom() + m)
+                )
+                if not keep.any():
+                    continue
+                dev, status = dev[keep], status[keep]
+            self._dev[g] = (dev, status)
             lo = dev.min(axis=0) - self._size
             hi = dev.max(axis=0) + self._size
             boxes[g] = (version, QRectF(lo[0], lo[1], hi[0] - lo[0], hi[1] - lo[1]))
@@ -431,8 +217,7 @@ class MarkersItem(_ImageLayer):
 
     def _draw(self, painter, group) -> None:
         dpr = painter.device().devicePixelRatioF()
-        _xy, status, _v = self._groups[group]
-        dev = self._dev[group]
+        dev, status = self._dev[group]
         for st in np.unique(status):
             img = self._symbol(int(st), dpr)
             half = img.width() / dpr / 2
@@ -781,154 +566,99 @@ class _Placer:
         self.grid[jj[ok], ii[ok]] = True
 
 
-def nice_length(target: float) -> float:
-    """Largest 1, 2 or 5 times a power of ten not above ``target`` (> 0).
+class TargetsLayer:
+    """Markers, labels and the selection rings of every arm's targets.
 
-    Examples
-    --------
-    >>> nice_length(730.0), nice_length(0.31)
-    (500.0, 0.2)
-    """
-    if not (target > 0 and math.isfinite(target)):
-        return 1.0
-    p = 10.0 ** math.floor(math.log10(target))
-    for m in (5.0, 2.0, 1.0):
-        if m * p <= target * (1 + 1e-12):
-            return float(f"{m * p:.12g}")
-    return p
-
-
-class ScaleBar(pg.GraphicsObject):
-    """A scale bar in the view's lower left corner, labelled in the cell's units.
-
-    Parented to the ViewBox itself (not its scaled child group), so it paints in
-    pixels; its length is a round number of units about 120 px long.
+    Labels give each failing target's reason (amounts left out while a drag steps: they
+    would change at every pointer move; they come back when the changes pause).
     """
 
-    def __init__(self, vb: pg.ViewBox, units: str) -> None:
-        super().__init__()
-        self.vb = vb
-        self.units = units
-        self.setParentItem(vb)
-        self.setZValue(1000)
-        self._font = QFont()
-        self._font.setPointSizeF(8.5)
-        self.length = 0.0
-        self._px = 0.0
-        vb.sigRangeChanged.connect(self._relayout)
-        vb.sigResized.connect(self._relayout)
+    def __init__(self, host: Host) -> None:
+        self._host = host
+        self.markers = MarkersItem(
+            {int(st): (ss.symbol, ss.colour) for st, ss in style.STATUS_STYLES.items()}
+        )
+        self.markers.setData(0, "targets.markers")
+        host.add(self.markers, Z["target"])
+        self.selected = pg.ScatterPlotItem(
+            size=24,
+            symbol="o",
+            pen=pg.mkPen(colour(style.PALETTE["harbour"], 0.9), width=3.0),
+            brush=pg.mkBrush(0, 0, 0, 0),
+            pxMode=True,
+        )
+        host.add(self.selected, Z["select"])
+        self.labels = LabelsItem()
+        self.labels.setData(0, "targets.labels")
+        host.add(self.labels, Z["label"])
+        self._reasons: dict[str, tuple[object, bool, list[str]]] = {}
+        self._names_key: tuple | None = None
+        self._names: dict[str, str] = {}
+        self._shown_selection: tuple = ("\0",)
+        self.xy = np.zeros((0, 2))
+        self.ids: list[str] = []
+        self.status = np.zeros(0, dtype=np.int64)
 
-    def _relayout(self, *args) -> None:
-        px = self.vb.viewPixelSize()[0] if self.vb.width() > 0 else 0.0
-        if px <= 0 or not math.isfinite(px):
-            return
-        self.prepareGeometryChange()
-        self.length = nice_length(120.0 * px)
-        self._px = self.length / px
-        self.setPos(16.0, self.vb.height() - 18.0)
-        self.update()
+    def reasons(self, ev, units: str, plain: bool) -> list[str]:
+        """Label reason per target of an arm ('' when feasible), glyph first (cached)."""
+        hit = self._reasons.get(ev.arm.id)
+        if hit is not None and hit[0] is ev and hit[1] == plain and hit[3] == units:
+            return hit[2]
+        status = ev.status.tolist()
+        out = [""] * len(status)
+        detail = "plain" if plain else "short"
+        for i in np.flatnonzero(~np.asarray(ev.feasible, dtype=bool)).tolist():
+            glyph = style.status_style(status[i]).glyph
+            out[i] = f"{glyph} {target_reason(ev, i, units, detail)}"
+        self._reasons[ev.arm.id] = (ev, plain, out, units)
+        return out
 
-    def text(self) -> str:
-        return f"{self.length:g} {self.units}"
-
-    def boundingRect(self) -> QRectF:
-        return QRectF(-6, -26, self._px + 90, 34)
-
-    def paint(self, painter, option, widget=None) -> None:
-        if self._px <= 0:
-            return
-        w = self._px
-        halo = QColor(style.PAPER)
-        halo.setAlphaF(0.85)
-        painter.fillRect(QRectF(-4, -22, w + 8, 28), halo)
-        pen = QPen(QColor(style.INK), 2.0)
-        painter.setPen(pen)
-        painter.drawLine(QPointF(0, 0), QPointF(w, 0))
-        for x in (0.0, w / 2, w):
-            tick = 6.0 if x != w / 2 else 3.5
-            painter.drawLine(QPointF(x, 0), QPointF(x, -tick))
-        painter.setFont(self._font)
-        painter.drawText(QRectF(0, -22, w, 14), Qt.AlignmentFlag.AlignCenter, self.text())
-
-
-class PlanView(pg.PlotWidget):
-    """The plot widget with the plan grid drawn as its cached background.
-
-    The grid is painted under every item by ``drawBackground`` and Qt keeps it
-    as one opaque pixmap (CacheBackground) until the view range changes, so a
-    repaint during a drag costs a single copy for it.
-    """
-
-    def __init__(self, **kwargs) -> None:
-        super().__init__(**kwargs)
-        self.grid: Grid | None = None
-        self.setCacheMode(QGraphicsView.CacheModeFlag.CacheBackground)
-
-    def drawBackground(self, painter, rect) -> None:  # noqa: N802 (Qt name)
-        super().drawBackground(painter, rect)
-        if self.grid is not None:
-            self.grid.paint(painter)
-
-
-class Grid:
-    """A plan grid in the cell's units: major lines about 110 px apart, minor ones between.
-
-    The axes get the same spacing, so grid lines and tick labels agree.
-    """
-
-    def __init__(self, view: PlanView, vb: pg.ViewBox, axes: tuple = ()) -> None:
-        self.view = view
-        self.vb = vb
-        self.axes = axes
-        self.major = 100.0
-        self.minor = 20.0
-        view.grid = self
-        vb.sigRangeChanged.connect(self._relayout)
-        vb.sigResized.connect(self._relayout)
-
-    def _relayout(self, *args) -> None:
-        px = self.vb.viewPixelSize()[0] if self.vb.width() > 0 else 0.0
-        if px <= 0 or not math.isfinite(px):
-            return
-        self.major = nice_length(110.0 * px)
-        self.minor = self.major / (4.0 if f"{self.major:e}"[0] == "2" else 5.0)
-        if self.minor / px < 10.0:
-            self.minor = self.major
-        for ax in self.axes:
-            ax.setTickSpacing(self.major, self.minor)
-        self.view.resetCachedContent()
-        self.view.viewport().update()
-
-    def paint(self, painter) -> None:
-        """Paint into the view's background (the painter is in scene coordinates)."""
-        vb = self.vb
-        if vb.width() <= 0:
-            return
-        area = vb.sceneBoundingRect()
-        painter.save()
-        painter.setClipRect(area)
-        painter.setRenderHint(painter.RenderHint.Antialiasing, False)
-        (x0, x1), (y0, y1) = vb.viewRange()
-        o = vb.mapViewToScene(QPointF(0.0, 0.0))
-        e = vb.mapViewToScene(QPointF(1.0, 1.0))
-        sx, sy = e.x() - o.x(), e.y() - o.y()
-        passes = [(self.major, QPen(mixed(style.PALETTE["fog"], 1.0), 0), False)]
-        if self.minor < self.major:
-            passes.insert(0, (self.minor, QPen(mixed(style.PALETTE["fog"], 0.45), 0), True))
-        for step, pen, skip_major in passes:
-            painter.setPen(pen)
-            xs = np.arange(math.ceil(x0 / step), math.floor(x1 / step) + 1) * step
-            ys = np.arange(math.ceil(y0 / step), math.floor(y1 / step) + 1) * step
-            for v in xs:
-                if not (skip_major and _on_major(v, self.major)):
-                    x = o.x() + sx * v
-                    painter.drawLine(QPointF(x, area.top()), QPointF(x, area.bottom()))
-            for v in ys:
-                if not (skip_major and _on_major(v, self.major)):
-                    y = o.y() + sy * v
-                    painter.drawLine(QPointF(area.left(), y), QPointF(area.right(), y))
-        painter.restore()
-
-
-def _on_major(v: float, major: float) -> bool:
-    return abs(v / major - round(v / major)) < 1e-9
+    def update(self, frame: Frame) -> None:
+        cell, evaluation = frame.cell, frame.evaluation
+        key = tuple((t.id, t.name) for t in cell.targets)
+        if key != self._names_key:
+            self._names_key = key
+            self._names = dict(key)
+            frame.arms = None  # renamed targets: every arm's labels
+        xy_parts, st_parts, ids, groups = [], [], [], []
+        for aid, ev in evaluation.arms.items():
+            groups.append(aid)
+            if frame.touched(aid):
+                status = np.asarray(ev.status, dtype=np.int64)
+                self.markers.set_group(aid, ev.xy, status)
+                names = [self._names[t] for t in ev.target_ids]
+                self.labels.set_group(aid, ev.xy, names, self.reasons(ev, cell.units, frame.draft))
+            xy_parts.append(ev.xy)
+            st_parts.append(np.asarray(ev.status, dtype=np.int64))
+            ids.extend(ev.target_ids)
+        seen = set(ids)
+        orphans = [t for t in cell.targets if t.id not in seen]
+        if orphans:
+            oxy = np.array([(t.x, t.y) for t in orphans], dtype=float)
+            ost = np.full(len(orphans), int(Status.BEYOND_REACH), dtype=np.int64)
+            self.markers.set_group("", oxy, ost)
+            self.labels.set_group(
+                "",
+                oxy,
+                [t.name for t in orphans],
+                [f"assigned to missing arm {t.arm!r}" for t in orphans],
+            )
+            groups.append("")
+            xy_parts.append(oxy)
+            st_parts.append(ost)
+            ids.extend(t.id for t in orphans)
+        self.markers.keep_groups(groups)
+        self.labels.keep_groups(groups)
+        self.xy = np.vstack(xy_parts) if xy_parts else np.zeros((0, 2))
+        self.ids = ids
+        self.status = np.concatenate(st_parts) if st_parts else np.zeros(0, dtype=np.int64)
+        sel = tuple(sorted(frame.selection))
+        if sel != self._shown_selection or (sel and frame.arms is None):
+            self._shown_selection = sel
+            pos = np.zeros((0, 2))
+            if self.ids and sel:
+                chosen = set(sel)
+                mask = np.array([t in chosen for t in self.ids], dtype=bool)
+                pos = self.xy[mask]
+            self.selected.setData(pos=pos)
+            self.selected.setVisible(len(pos) > 0)

@@ -1,0 +1,230 @@
+"""Every sentence about a verdict: the one builder the report, the window and exports use.
+
+Words and numbers only (no glyphs or colours: front ends add their own marks). One
+verdict word, :data:`FEASIBLE`, is used everywhere a target passes; a failing target
+gets its reason in one of three lengths:
+
+* ``"plain"``: the reason without amounts ("q1 limit"), for drawings redrawn at every
+  pointer move;
+* ``"short"``: with the amount ("q1 limit by 4.0°"), for table cells and labels;
+* ``"full"``: with which configuration comes closest ("q1 limit by 4.0° (closest:
+  positive elbow)"), for the report and the problems list.
+
+Lengths are written in the cell's units with one decimal (two for inches), angles in
+degrees with one decimal and the degree sign.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from .evaluate import ArmEvaluation
+from .ik import ELBOWS, REASONS, Status
+
+__all__ = [
+    "FEASIBLE",
+    "FAILS",
+    "DETAILS",
+    "STATUS_WORDS",
+    "length",
+    "degrees",
+    "target_reason",
+    "verdict",
+    "problem_text",
+    "move_reason",
+    "move_problem_text",
+    "count_text",
+    "hit_note",
+]
+
+#: The one word for a target that passes every check.
+FEASIBLE = "feasible"
+#: The one word for a target that fails one.
+FAILS = "fails"
+#: The lengths a reason comes in.
+DETAILS = ("plain", "short", "full")
+#: Legend words per status.
+STATUS_WORDS = {
+    Status.OK: FEASIBLE,
+    Status.BEYOND_REACH: "beyond outer reach",
+    Status.INSIDE_HOLE: "inside the inner hole",
+    Status.Q1_LIMIT: "q1 limit",
+    Status.Q2_LIMIT: "q2 limit",
+    Status.ELBOW_EXCLUDED: "elbow setting excludes it",
+    Status.COLLISION: "collides with a fixture",
+    Status.BASE_OVERLAP: "base overlaps a fixture",
+}
+
+_DASH = "—"
+
+
+def _decimals(units: str) -> int:
+    return 2 if units == "in" else 1
+
+
+def length(value: float, units: str, unit: bool = True) -> str:
+    """A length in the cell's units ("28.8 mm", "1.25 in"), a dash when not finite.
+
+    Examples
+    --------
+    >>> length(28.84, "mm"), length(1.254, "in", unit=False), length(float("nan"), "mm")
+    ('28.8 mm', '1.25', '—')
+    """
+    if not math.isfinite(value):
+        return _DASH
+    text = f"{value:.{_decimals(units)}f}"
+    return f"{text} {units}" if unit else text
+
+
+def degrees(value: float, unit: bool = True) -> str:
+    """An angle in degrees with one decimal ("12.3°"), a dash when not finite."""
+    if not math.isfinite(value):
+        return _DASH
+    return f"{value:.1f}°" if unit else f"{value:.1f}"
+
+
+def _depth(clearance: float, units: str) -> str:
+    return "touching" if clearance >= 0 else f"{length(-clearance, units)} deep"
+
+
+def target_reason(ev: ArmEvaluation, i: int, units: str, detail: str = "full") -> str:
+    """Why target ``i`` of an arm evaluation fails ('' when it is feasible).
+
+    Parameters
+    ----------
+    ev : ArmEvaluation
+    i : int
+    units : str
+        The cell's length units.
+    detail : {"plain", "short", "full"}
+
+    Examples
+    --------
+    >>> from kinematics.cell import Arm, Target
+    >>> from kinematics.evaluate import evaluate_arm
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (0, 180), (-120, 120))
+    >>> ev = evaluate_arm(arm, [Target("t", "T", 480, 480, "a"), Target("u", "U", 300, -300, "a")])
+    >>> target_reason(ev, 0, "mm"), target_reason(ev, 1, "mm", "short")
+    ('beyond outer reach by 28.8 mm', 'q1 limit by 9.8°')
+    >>> target_reason(ev, 1, "mm")
+    'q1 limit by 9.8° (closest: negative elbow)'
+    """
+    if detail not in DETAILS:
+        raise ValueError(f"detail must be one of {DETAILS}, got {detail!r}")
+    if bool(ev.feasible[i]):
+        return ""
+    st = Status(int(ev.status[i]))
+    reason = ev.reason(i)
+    if detail == "plain":
+        return reason if st in (Status.COLLISION, Status.BASE_OVERLAP) else REASONS[st]
+    if st in (Status.BEYOND_REACH, Status.INSIDE_HOLE):
+        return f"{reason} by {length(-float(ev.ik.reach_margin[i]), units)}"
+    if st in (Status.Q1_LIMIT, Status.Q2_LIMIT):
+        k = ev.closest(i)
+        joint = 0 if st is Status.Q1_LIMIT else 1
+        text = f"{reason} by {degrees(-float(ev.ik.joint_margin_deg[i, k, joint]))}"
+        return text if detail == "short" else f"{text} (closest: {ELBOWS[k]} elbow)"
+    if st is Status.ELBOW_EXCLUDED:
+        fits = " and ".join(ELBOWS[k] for k in range(2) if bool(ev.ik.within_limits[i, k].all()))
+        if detail == "short":
+            return f"only the {fits} elbow fits (setting '{ev.arm.elbow}')"
+        return f"{reason} '{ev.arm.elbow}' (only the {fits} elbow fits)"
+    if st is Status.COLLISION:
+        k = ev.closest(i)
+        body = ev.blocked_body(i, k)
+        if detail == "short":
+            # How deep is in the clearance columns beside a short reason.
+            return f"{reason} ({body})" if body else reason
+        depth = _depth(float(ev.clearance[i, k]), units)
+        what = f"{body}, {depth}" if body else depth
+        both = sum(bool(ev.ik.ok[i, j]) for j in range(2)) == 2 and not bool(ev.ik.singular[i])
+        closest = f"; closest: {ELBOWS[k]} elbow" if both else ""
+        return f"{reason} ({what}{closest})"
+    if st is Status.BASE_OVERLAP:
+        return f"{reason} ({_depth(ev.base_clearance, units)})"
+    return reason
+
+
+def verdict(ev: ArmEvaluation, i: int, units: str, detail: str = "short") -> str:
+    """ "feasible", or "fails: <reason>" (see :func:`target_reason`)."""
+    if bool(ev.feasible[i]):
+        return FEASIBLE
+    return f"{FAILS}: {target_reason(ev, i, units, detail)}"
+
+
+def problem_text(ev: ArmEvaluation, i: int, name: str, units: str) -> str:
+    """One problem line: "reject_bin Reject bin — q1 limit by 12.0° (closest: ...)"."""
+    return f"{ev.target_ids[i]} {name} — {target_reason(ev, i, units, 'full')}"
+
+
+def move_reason(move: Any, body: str | None, units: str) -> str:
+    """Why a move fails ('' when it is possible and clear).
+
+    ``move`` is a :class:`kinematics.sweep.MoveResult`; ``body`` names the body at its
+    smallest clearance when it collides.
+    """
+    if move.collides is False:
+        return ""
+    if move.collides:
+        what = _depth(move.clearance if move.clearance is not None else 0.0, units)
+        return f"{move.reason} ({body}, {what})" if body else f"{move.reason} ({what})"
+    return move.reason
+
+
+def move_problem_text(move: Any, body: str | None, units: str, several_arms: bool) -> str:
+    """One problem line of a move: "move pick → nest (left) — collides with ..."."""
+    arm = f" ({move.arm})" if several_arms else ""
+    return f"move {move.from_id} → {move.to_id}{arm} — {move_reason(move, body, units)}"
+
+
+def count_text(feasible: int, total: int) -> str:
+    """The summary of a cell's targets: "9 of 11 targets feasible, 2 fail".
+
+    Examples
+    --------
+    >>> count_text(9, 11), count_text(3, 3), count_text(0, 0)
+    ('9 of 11 targets feasible, 2 fail', 'all 3 targets feasible', 'no targets yet')
+    """
+    if total == 0:
+        return "no targets yet"
+    if feasible == total:
+        return f"all {total} target{'s' if total != 1 else ''} {FEASIBLE}"
+    bad = total - feasible
+    return f"{feasible} of {total} targets {FEASIBLE}, {bad} {FAILS if bad == 1 else 'fail'}"
+
+
+def hit_note(
+    arm_names: dict[str, str],
+    fails: list[tuple[str, str, str, str]],
+    others: list[tuple[str, str, str, str]],
+    moves: list[str] = (),
+    most: int = 3,
+) -> str:
+    """The note beside a fixture that bodies hit, one line per collision.
+
+    ``fails`` and ``others`` hold (arm id, target name, elbow, body) of collisions that
+    make a target fail and of configurations the target does not use; ``moves`` are
+    lines about moves. At most ``most`` lines of each kind, then how many more.
+
+    Examples
+    --------
+    >>> print(hit_note({"a": "Loader"}, [("a", "Reject bin", "negative", "link 1")],
+    ...                [("a", "Tray A1", "positive", "tool"), ("a", "Tray A2", "positive", "tool")],
+    ...                most=1))
+    hit by Loader at Reject bin (negative elbow, link 1)
+    other configuration: Tray A1 (positive elbow, tool), and 1 more
+    """
+
+    def lines(rows: list[tuple[str, str, str, str]], head: str) -> list[str]:
+        out = [
+            f"{head}{arm_names.get(a, a) + ' at ' if head.startswith('hit') else ''}"
+            f"{t} ({e} elbow, {b})"
+            for a, t, e, b in rows[:most]
+        ]
+        if len(rows) > most and out:
+            out[-1] += f", and {len(rows) - most} more"
+        return out
+
+    text = lines(fails, "hit by ") + lines(others, "other configuration: ") + list(moves)
+    return "\n".join(text)
