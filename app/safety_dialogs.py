@@ -23,11 +23,11 @@ __all__ = ["RecoveryDialog", "SafetySettingsDialog", "recovery_line"]
 
 
 def recovery_line(entry: RecoveryEntry) -> str:
-    """One line describing a recoverable document: name, file, time, what differs."""
+    """Two lines describing a recoverable document: name and file; time and what differs."""
     name = entry.cell.name if entry.cell is not None else entry.path.name
     file = str(entry.file) if entry.file is not None else "no file"
     when = entry.written.replace("T", " ") if entry.written else "unknown time"
-    return f"{name} ({file}), autosaved {when}: {difference_text(entry)}"
+    return f"{name} — {file}\nautosaved {when}; {difference_text(entry)}"
 
 
 class RecoveryDialog(QDialog):
@@ -50,8 +50,10 @@ class RecoveryDialog(QDialog):
         text.setWordWrap(True)
         layout.addWidget(text)
         self.list = QListWidget(self)
+        self.list.setSpacing(3)
         for entry in entries:
             item = QListWidgetItem(recovery_line(entry))
+            item.setToolTip(recovery_line(entry))
             item.setFlags(item.flags() | Qt.ItemFlag.ItemIsUserCheckable)
             item.setCheckState(Qt.CheckState.Checked)
             self.list.addItem(item)

@@ -291,3 +291,58 @@ def test_work_of_a_killed_window_is_recovered_at_the_next_start(window, tmp_path
     )
     assert restored is win and dumps_cell(win.document.cell) == edited
     assert win.document.dirty and win.document.path == path
+
+
+# ---------------------------------------------------------------------------- settings, dialog
+
+
+def test_backup_count_and_autosave_interval_come_from_the_settings(window, tmp_path):
+    from app import settings as app_settings
+    from kinematics.savefile import backup_files
+
+    app_settings.set_backup_count(1)
+    app_settings.set_autosave_minutes(5)
+    path = tray_copy(tmp_path)
+    win = window(path)
+    assert win.backup_count == 1 and win.autosave_timer.interval() == 5 * 60_000
+    for dx in (1.0, 2.0, 3.0):
+        nudge(win, dx)
+        assert win.save()
+    assert len(backup_files(path)) == 1
+
+
+def test_recovery_dialog_restores_only_the_checked_documents(qtbot):
+    from PySide6.QtCore import Qt
+
+    from app.safety_dialogs import RecoveryDialog, recovery_line
+
+    saved = load_cell(TRAY)
+    entries = [
+        recovery.RecoveryEntry(
+            Path("a.recovery.json"),
+            "2026-12-04T08:30:00+00:00",
+            TRAY,
+            replace(saved, targets=saved.targets[1:]),
+            saved=saved,
+        ),
+        recovery.RecoveryEntry(Path("b.recovery.json"), "", None, saved),
+    ]
+    dialog = RecoveryDialog(entries)
+    qtbot.addWidget(dialog)
+    assert recovery_line(entries[0]) == (
+        f"{saved.name} — {TRAY}\nautosaved 2026-12-04 08:30:00+00:00; "
+        "changes 0 arms, 1 target, 0 fixtures against the saved file"
+    )
+    dialog.list.item(1).setCheckState(Qt.CheckState.Unchecked)
+    buttons = {
+        b.text(): b
+        for b in dialog.findChildren(
+            type(
+                dialog.findChildren(
+                    __import__("PySide6.QtWidgets", fromlist=["QPushButton"]).QPushButton
+                )[0]
+            )
+        )
+    }
+    buttons["Restore Checked"].click()
+    assert dialog.choices() == ["restore", "keep"]
