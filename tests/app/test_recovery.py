@@ -313,6 +313,7 @@ def test_backup_count_and_autosave_interval_come_from_the_settings(window, tmp_p
 
 def test_recovery_dialog_restores_only_the_checked_documents(qtbot):
     from PySide6.QtCore import Qt
+    from PySide6.QtWidgets import QPushButton
 
     from app.safety_dialogs import RecoveryDialog, recovery_line
 
@@ -334,15 +335,6 @@ def test_recovery_dialog_restores_only_the_checked_documents(qtbot):
         "changes 0 arms, 1 target, 0 fixtures against the saved file"
     )
     dialog.list.item(1).setCheckState(Qt.CheckState.Unchecked)
-    buttons = {
-        b.text(): b
-        for b in dialog.findChildren(
-            type(
-                dialog.findChildren(
-                    __import__("PySide6.QtWidgets", fromlist=["QPushButton"]).QPushButton
-                )[0]
-            )
-        )
-    }
+    buttons = {b.text(): b for b in dialog.findChildren(QPushButton)}
     buttons["Restore Checked"].click()
     assert dialog.choices() == ["restore", "keep"]
