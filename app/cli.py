@@ -179,6 +179,8 @@ def _file_argument(args: list[str]) -> str | None:
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``elbowroom`` console script."""
     args = list(sys.argv[1:] if argv is None else argv)
+    if sys.stderr is None:  # started with stderr closed: its one-line messages go nowhere
+        sys.stderr = open(os.devnull, "w", encoding="utf-8")  # noqa: SIM115 - for the run
     if args and args[0] in SUBCOMMANDS:
         prog, rest = f"elbowroom {args[0]}", args[1:]
     else:

@@ -137,6 +137,19 @@ def test_check_with_its_standard_output_closed(tmp_path, as_json):
     )
 
 
+def test_check_with_both_outputs_closed_still_exits_2(tmp_path):
+    proc = run(
+        f"""
+        import sys
+        from app.cli import main
+        sys.exit(main(["check", {str(TRAY)!r}]))
+        """,
+        tmp_path,
+        shell="SCRIPT >&- 2>&-",
+    )
+    assert proc.returncode == 2
+
+
 def test_an_error_inside_the_window_saves_the_work_and_exits_3(tmp_path):
     cell = tmp_path / "line_c.cell.json"
     cell.write_bytes(TRAY.read_bytes())

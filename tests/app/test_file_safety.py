@@ -269,12 +269,12 @@ def test_an_outside_change_is_noticed_across_an_atomic_rename(make_window, answe
     path = copy()
     win = make_window(path)
     other_program_saves(path, 111.0)
-    qtbot.waitUntil(lambda: "outside" in answers.asked, timeout=5000)
+    qtbot.waitUntil(lambda: "outside" in answers.asked, timeout=15000)
     assert answers.asked == ["outside"]  # kept: the window still shows its version
     assert win.document.cell.arms[0].x != 111.0
     # A second outside save is noticed too: the watch followed the renamed file.
     other_program_saves(path, 222.0)
-    qtbot.waitUntil(lambda: answers.asked.count("outside") == 2, timeout=5000)
+    qtbot.waitUntil(lambda: answers.asked.count("outside") == 2, timeout=15000)
     # Saving over it asks first, even without local edits; "no" keeps their version.
     assert not win.save()
     assert answers.asked[-1] == "overwrite_outside" and load_cell(path).arms[0].x == 222.0
@@ -289,7 +289,7 @@ def test_reload_takes_the_outside_version(make_window, answers, copy, qtbot):
     win = make_window(path)
     answers.outside = "reload"
     other_program_saves(path, 111.0)
-    qtbot.waitUntil(lambda: win.document.cell.arms[0].x == 111.0, timeout=5000)
+    qtbot.waitUntil(lambda: win.document.cell.arms[0].x == 111.0, timeout=15000)
     assert not win.document.dirty and win.document.path == path
     move_base(win, 5.0)
     assert win.save() and "overwrite_outside" not in answers.asked
@@ -315,7 +315,7 @@ def test_two_windows_on_one_file_never_save_over_each_other_silently(
     assert answers.asked == ["locked"]
     move_base(first, 10.0)
     assert first.save()
-    qtbot.waitUntil(lambda: "outside" in answers.asked, timeout=5000)  # the second one noticed
+    qtbot.waitUntil(lambda: "outside" in answers.asked, timeout=15000)  # the second one noticed
     move_base(second, 20.0)
     assert not second.save()  # asks, and the answer is no
     assert load_cell(path).arms[0].x == 10.0

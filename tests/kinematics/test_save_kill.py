@@ -88,7 +88,7 @@ HELPER = textwrap.dedent(
             os.read(r, 1)
             delay = rng.uniform(0.0, 1.5 * write_s)
         else:  # a random moment anywhere in the save
-            delay = rng.uniform(0.0, 1.2 * save_s)
+            delay = rng.uniform(0.0, 1.5 * save_s)
         time.sleep(delay)
         os.kill(pid, signal.SIGKILL)
         _, status = os.waitpid(pid, 0)
