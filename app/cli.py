@@ -4,7 +4,9 @@
 ``elbowroom check CELL [--json]`` prints the reach report without a window.
 Exit status of ``check``: 0 when every target is feasible, 1 when some are not,
 2 when the file or the arguments cannot be used or the report cannot be written
-(one line on stderr).
+(one line on stderr), 3 on an internal error of the program (every subcommand and
+the window: one line naming the file and "internal error", the traceback in the
+error log, see :mod:`app.errorlog`).
 
 Subcommands are listed in :data:`SUBCOMMANDS`: name -> function taking the remaining
 arguments and returning the exit status. A subcommand module registers itself there
@@ -20,9 +22,18 @@ import sys
 from collections.abc import Callable
 from pathlib import Path
 
-__all__ = ["main", "SUBCOMMANDS", "EXIT_OK", "EXIT_INFEASIBLE", "EXIT_UNUSABLE"]
+__all__ = [
+    "main",
+    "SUBCOMMANDS",
+    "EXIT_OK",
+    "EXIT_INFEASIBLE",
+    "EXIT_UNUSABLE",
+    "EXIT_INTERNAL",
+]
 
 EXIT_OK, EXIT_INFEASIBLE, EXIT_UNUSABLE = 0, 1, 2
+#: An internal error (a bug): never mistaken for a finding or for bad input.
+EXIT_INTERNAL = 3
 
 
 class _Parser(argparse.ArgumentParser):
@@ -97,11 +108,18 @@ def _write_out(text: str) -> bool:
     if not _stdout_encodes(text):
         # A terminal that cannot show some names (e.g. LC_ALL=C) gets them escaped, not a crash.
         text = text.encode("ascii", "backslashreplace").decode("ascii")
+    if sys.stdout is None:  # started with its standard output closed
+        sys.stderr.write(
+            "elbowroom check: could not write the report (standard output is closed)\n"
+        )
+        return False
     try:
         sys.stdout.write(text)
         sys.stdout.flush()
-    except OSError as exc:
-        if isinstance(exc, BrokenPipeError):
+    except (OSError, ValueError) as exc:
+        if isinstance(exc, ValueError):  # "I/O operation on closed file"
+            reason = "standard output is closed"
+        elif isinstance(exc, BrokenPipeError):
             reason = "the reading end of the pipe was closed"
         else:
             reason = exc.strerror or str(exc) or type(exc).__name__
@@ -150,9 +168,39 @@ SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
 }
 
 
+def _file_argument(args: list[str]) -> str | None:
+    """The file a command line names (its first argument that is not an option)."""
+    for a in args:
+        if not a.startswith("-"):
+            return Path(a).name or a
+    return None
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``elbowroom`` console script."""
     args = list(sys.argv[1:] if argv is None else argv)
+    if sys.stderr is None:  # started with stderr closed: its one-line messages go nowhere
+        sys.stderr = open(os.devnull, "w", encoding="utf-8")  # noqa: SIM115 - for the run
+    if args and args[0] in SUBCOMMANDS:
+        prog, rest = f"elbowroom {args[0]}", args[1:]
+    else:
+        prog, rest = "elbowroom", args
+    from app.errorlog import warnings_to_log
+
+    try:
+        with warnings_to_log(prog):
+            return _main(args)
+    except SystemExit as exc:  # argparse: --help exits 0, errors exit 2
+        return int(exc.code or 0) if not isinstance(exc.code, str) else EXIT_UNUSABLE
+    except KeyboardInterrupt:
+        return 130  # the shell's convention for Ctrl+C (128 + SIGINT)
+    except Exception as exc:  # noqa: BLE001 - any bug: one line, traceback to the log
+        from app.errorlog import report_internal_error
+
+        return report_internal_error(prog, _file_argument(rest), exc)
+
+
+def _main(args: list[str]) -> int:
     try:
         if args and args[0] in SUBCOMMANDS:
             return SUBCOMMANDS[args[0]](args[1:])

@@ -241,6 +241,24 @@ class Document:
         self.set_path(path)
         self.events.dirty_changed.emit(False)
 
+    @property
+    def saved_cell(self) -> Cell | None:
+        """The cell as last loaded or saved; None for a recovered document never saved."""
+        return self._saved
+
+    def restore_state(self, cell: Cell, path: Path | None, saved: Cell | None) -> None:
+        """Show ``cell`` for ``path`` with ``saved`` as its stored version (None: unsaved).
+
+        Puts back the state before a failed switch of documents, and opens recovered
+        documents as modified (``saved`` differs from ``cell``).
+        """
+        self._preview_base = None
+        self._saved = saved
+        self.selection.clear()
+        self.apply(cell)
+        self.set_path(path)
+        self.events.dirty_changed.emit(self.dirty)
+
     def mark_saved(self, path: Path) -> None:
         """Record that the current cell is what is stored at ``path``."""
         self._saved = self._cell

@@ -5,6 +5,11 @@ closed, which works without a display (the offscreen platform is used then). The
 picture is taken once the window has settled: every pending event handled (layout,
 the canvas's fit once shown, first paint), counted in event rounds rather than waited
 for on the clock, so a busy machine gives the same picture, only later.
+
+An exception that reaches Qt's event loop (a bug) is an internal error: unsaved work
+goes to the recovery file, the traceback to the error log (:mod:`app.errorlog`), one
+line naming the file to stderr, and the program exits with status 3. At start-up the
+window offers the unsaved work of copies that stopped (:meth:`MainWindow.offer_recovery`).
 """
 
 from __future__ import annotations
@@ -70,6 +75,7 @@ def run(
             return 1
         os.environ["QT_QPA_PLATFORM"] = "offscreen"
 
+    from PySide6.QtCore import QTimer
     from PySide6.QtWidgets import QApplication
 
     from app.document import Document
@@ -91,11 +97,22 @@ def run(
     window = MainWindow(document, use_settings=screenshot is None, untitled_name=untitled)
     if cell_path is not None and screenshot is None:
         window._remember(path)
+        if not window.claim_file():  # another copy has it open and the user cancelled
+            _dispose(window, app)
+            return 0
 
     if screenshot is None:
         window.show()
         window.canvas.zoom_to_fit()
-        code = app.exec()
+        QTimer.singleShot(0, window.offer_recovery)
+        previous_hook = sys.excepthook
+        sys.excepthook = _internal_error_hook(window, app)
+        try:
+            code = app.exec()
+        finally:
+            sys.excepthook = previous_hook
+        for w in [window, *window.spawned]:
+            w.release_files()
         _dispose(window, app)
         return int(code)
 
@@ -112,6 +129,37 @@ def run(
         print(f"{shot}: could not write the screenshot (does the folder exist?)", file=sys.stderr)
     _dispose(window, app)
     return 0 if ok else 1
+
+
+def _internal_error_hook(window, app):
+    """sys.excepthook while the window runs: save work, log, one line, exit 3."""
+    from app.errorlog import EXIT_INTERNAL, internal_error_line, log_internal_error
+
+    handled = []
+
+    def hook(exc_type, exc, tb) -> None:
+        if handled:  # one report; later errors while stopping go to the log only
+            log_internal_error(exc, "window (while stopping)")
+            return
+        handled.append(exc)
+        for w in [window, *window.spawned]:
+            try:
+                w.autosave()
+            except Exception:  # noqa: BLE001 - stopping anyway; the log has the cause
+                pass
+        path = window.document.path
+        name = path.name if path is not None else window.untitled_name
+        log = log_internal_error(exc, f"window: {path or name}")
+        line = internal_error_line("elbowroom", name, exc, log)
+        if sys.stderr is not None:
+            sys.stderr.write(line + "\n")
+            sys.stderr.flush()
+        try:
+            window.show_internal_error(line)
+        finally:
+            app.exit(EXIT_INTERNAL)
+
+    return hook
 
 
 def _settle(app) -> None:

@@ -4,15 +4,24 @@ The window owns the undo stack and the file commands (New, Open, Save, Save As,
 Revert, Open Recent). It observes the document model and never computes
 geometry itself. Every question it asks the user goes through one method
 (``ask_unsaved_changes``, ``ask_open_path``, ``ask_save_path``, ``ask_revert``,
-``show_error``) so tests can answer it.
+``ask_replace_file``, ``ask_replace_read_only``, ``ask_locked_file``,
+``ask_outside_change``, ``ask_overwrite_outside_change``, ``ask_recovery``,
+``show_error``, ``show_notice``, ``show_internal_error``) so tests can answer it.
+
+Data safety: a file is opened only once it has loaded and evaluated (otherwise the
+current document, title and path stay); the open file is locked against other
+running copies (:mod:`app.filelock`) and watched for outside changes
+(:mod:`app.filewatch`); unsaved work is autosaved to a recovery file
+(:mod:`app.recovery`) every few minutes and after every :data:`AUTOSAVE_EDITS` edits.
 """
 
 from __future__ import annotations
 
+import os
 from dataclasses import replace
 from pathlib import Path
 
-from PySide6.QtCore import QByteArray, Qt
+from PySide6.QtCore import QByteArray, Qt, QTimer
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence, QUndoStack
 from PySide6.QtWidgets import (
     QDockWidget,
@@ -28,10 +37,14 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from app import recovery
 from app import settings as app_settings
 from app.canvas import CellCanvas
 from app.commands import attach_undo_stack
 from app.document import Changes, Document
+from app.errorlog import log_internal_error
+from app.filelock import DocumentLock, LockHolder
+from app.filewatch import FileWatch
 from app.panels.arm_panel import ArmPanel
 from app.panels.problems import ProblemsList
 from app.panels.target_table import TargetTable
@@ -39,9 +52,22 @@ from app.panels.text import cursor_text, hover_text, summary_text
 from app.pause import pause_timer
 from kinematics.caution import CAUTION_FULL, CAUTION_SHORT
 from kinematics.cell import Arm, Cell
-from kinematics.cellfile import CellFileError, load_cell, save_cell
+from kinematics.cellfile import CellFileError, ReadOnlyFileError, load_cell, save_cell
+from kinematics.evaluate import evaluate_cell
+from kinematics.sweep import cell_moves
 
-__all__ = ["MainWindow", "APP_TITLE", "CELL_SUFFIX", "new_cell", "UNTITLED"]
+__all__ = [
+    "MainWindow",
+    "APP_TITLE",
+    "CELL_SUFFIX",
+    "new_cell",
+    "UNTITLED",
+    "AUTOSAVE_EDITS",
+    "prepare_cell",
+]
+
+#: Unsaved work is autosaved after this many edits (undo and redo count), besides the timer.
+AUTOSAVE_EDITS = 50
 
 APP_TITLE = "Elbow Room"
 CELL_SUFFIX = ".cell.json"
@@ -73,6 +99,27 @@ def new_cell() -> Cell:
         q2_limits=(-150.0, 150.0),
     )
     return Cell(name="New cell", units="mm", arms=(arm,))
+
+
+def prepare_cell(cell: Cell) -> None:
+    """Run the engine on ``cell`` as the window will (verdicts and sequence moves).
+
+    Raises whatever the engine raises, before the window gives up its current document.
+    """
+    evaluation = evaluate_cell(cell)
+    cell_moves(cell, evaluation)
+
+
+_CLEAN = object()  # _switch: the new document starts clean
+
+
+def _same_file(a: Path | None, b: Path | None) -> bool:
+    if a is None or b is None:
+        return False
+    try:
+        return a.resolve() == b.resolve()
+    except OSError:
+        return a == b
 
 
 class MainWindow(QMainWindow):
@@ -150,6 +197,26 @@ class MainWindow(QMainWindow):
         self.canvas.hovered_target.connect(self._on_hover)
         self.canvas.status_message.connect(lambda msg: self.statusBar().showMessage(msg, 5000))
 
+        self.read_only = False
+        self.file_lock: DocumentLock | None = None
+        self.watch = FileWatch(self)
+        self.watch.changed_outside.connect(self._on_outside_change)
+        self.watch.watch(self.document.path)
+        self.recovery_file = recovery.RecoveryFile()
+        self.spawned: list[MainWindow] = []
+        self._edits_since_autosave = 0
+        self._autosave_failed = False
+        self.undo_stack.indexChanged.connect(self._count_edit)
+        self.autosave_timer = QTimer(self)
+        self.autosave_timer.setObjectName("autosave_timer")
+        self.autosave_timer.timeout.connect(self.autosave)
+        self.backup_count = app_settings.DEFAULT_BACKUPS
+        minutes = app_settings.DEFAULT_AUTOSAVE_MINUTES
+        if use_settings:
+            self.backup_count = app_settings.backup_count()
+            minutes = app_settings.autosave_minutes()
+        self.set_autosave_minutes(minutes)
+
         self.resize(1400, 900)
         if use_settings:
             self._restore_settings()
@@ -206,6 +273,7 @@ class MainWindow(QMainWindow):
         self.act_save = self._action("&Save", self.save, K.Save)
         self.act_save_as = self._action("Save &As…", self.save_as, K.SaveAs)
         self.act_revert = self._action("&Revert to Saved", self.revert)
+        self.act_safety = self._action("Backups and &Autosave…", self.edit_safety_settings)
         self.act_quit = self._action("&Quit", self.close, K.Quit)
         self.act_undo = self._action("&Undo", self.undo, K.Undo)
         self.act_redo = self._action("&Redo", self.redo, K.Redo)
@@ -231,6 +299,7 @@ class MainWindow(QMainWindow):
         file_menu.addAction(self.act_save)
         file_menu.addAction(self.act_save_as)
         file_menu.addAction(self.act_revert)
+        file_menu.addAction(self.act_safety)
         file_menu.addSeparator()
         file_menu.addAction(self.act_quit)
 
@@ -316,6 +385,8 @@ class MainWindow(QMainWindow):
     def _update_title(self) -> None:
         path = self.document.path
         name = path.name if path is not None else self.untitled_name
+        if self.read_only:
+            name += " (read-only)"
         self.setWindowTitle(f"{name}[*] — {APP_TITLE}")
         self.setWindowModified(self.document.dirty)
         self.act_revert.setEnabled(path is not None)
@@ -379,14 +450,21 @@ class MainWindow(QMainWindow):
         return Path(name) if name else None
 
     def ask_save_path(self) -> Path | None:
-        """Ask where to save; None when cancelled."""
+        """Ask where to save; None when cancelled (replacing a file is asked afterwards)."""
         if self.document.path is not None:
             start = str(self.document.path)
         else:
             base = self.untitled_name.split(" ")[0]
             base = base if base.endswith(CELL_SUFFIX) else "untitled" + CELL_SUFFIX
             start = str(Path.home() / base)
-        name, _ = QFileDialog.getSaveFileName(self, "Save cell as", start, _FILE_FILTER)
+        # The dialog's own check would look at the name before the suffix is added.
+        name, _ = QFileDialog.getSaveFileName(
+            self,
+            "Save cell as",
+            start,
+            _FILE_FILTER,
+            options=QFileDialog.Option.DontConfirmOverwrite,
+        )
         return Path(name) if name else None
 
     def ask_revert(self) -> bool:
@@ -399,6 +477,114 @@ class MainWindow(QMainWindow):
             QMessageBox.StandardButton.Cancel,
         )
         return answer == QMessageBox.StandardButton.Discard
+
+    def _choose(self, text: str, info: str, buttons: list[tuple[str, str]], icon=None) -> str:
+        """A message box with our own button texts; the key of the button pressed."""
+        box = QMessageBox(self)
+        box.setIcon(icon or QMessageBox.Icon.Warning)
+        box.setWindowTitle(APP_TITLE)
+        box.setText(text)
+        box.setInformativeText(info)
+        made = {}
+        for key, label in buttons:
+            role = (
+                QMessageBox.ButtonRole.RejectRole
+                if key == "cancel"
+                else QMessageBox.ButtonRole.AcceptRole
+            )
+            made[box.addButton(label, role)] = key
+        box.setDefaultButton(next(iter(made)))
+        box.exec()
+        return made.get(box.clickedButton(), "cancel")
+
+    def ask_replace_file(self, path: Path) -> bool:
+        """Save As chose an existing file: replace it?"""
+        answer = self._choose(
+            f"{path.name} already exists in {path.parent}.",
+            "Replace it? Its present content is kept as a backup beside it.",
+            [("cancel", "Cancel"), ("replace", "Replace")],
+        )
+        return answer == "replace"
+
+    def ask_replace_read_only(self, path: Path) -> bool:
+        """The file to save is read-only: replace it anyway (it stays read-only)?"""
+        answer = self._choose(
+            f"{path.name} is a read-only file.",
+            "Someone may have made it read-only on purpose (e.g. a signed-off layout). "
+            "Replace it anyway? It stays read-only, and its present content is kept as a "
+            "backup.",
+            [("cancel", "Cancel"), ("replace", "Replace Read-Only File")],
+        )
+        return answer == "replace"
+
+    def ask_locked_file(self, path: Path, holder: LockHolder, saving: bool = False) -> str:
+        """Another running copy holds ``path``: "read-only", "anyway" or "cancel"."""
+        who = holder.describe() if holder.pid else "another program"
+        if saving:
+            answer = self._choose(
+                f"{path.name} is open in another copy of Elbow Room ({who}).",
+                "Saving here replaces what that copy shows; its next save would replace yours.",
+                [("cancel", "Cancel"), ("anyway", "Save Anyway")],
+            )
+            return answer
+        return self._choose(
+            f"{path.name} is open in another copy of Elbow Room ({who}).",
+            "Open it read-only (Save then asks for another name), or open it anyway "
+            "(the last save wins)?",
+            [("read-only", "Open Read-Only"), ("anyway", "Open Anyway"), ("cancel", "Cancel")],
+        )
+
+    def ask_outside_change(self, path: Path) -> str:
+        """The open file was changed by another program: "reload" or "keep"."""
+        unsaved = " and lose your unsaved changes" if self.document.dirty else ""
+        return self._choose(
+            f"{path.name} was changed by another program.",
+            f"Reload it from disk{unsaved}, or keep what this window shows (saving will "
+            "then ask before replacing the other program's version)?",
+            [("keep", "Keep Mine"), ("reload", "Reload From Disk")],
+        )
+
+    def ask_overwrite_outside_change(self, path: Path) -> bool:
+        """Saving would replace a version another program wrote: go ahead?"""
+        answer = self._choose(
+            f"{path.name} was changed by another program since it was opened or saved here.",
+            "Replace that version with this window's? It is kept as a backup beside the file.",
+            [("cancel", "Cancel"), ("replace", "Replace")],
+        )
+        return answer == "replace"
+
+    def ask_recovery(self, entries: list[recovery.RecoveryEntry]) -> list[str]:
+        """Offer unsaved work found at start-up; per entry "restore", "discard" or "keep"."""
+        from app.safety_dialogs import RecoveryDialog
+
+        dialog = RecoveryDialog(entries, self)
+        dialog.exec()
+        choices = dialog.choices()
+        if "discard" in choices and not self._confirm_discard(choices.count("discard")):
+            return ["keep"] * len(entries)
+        return choices
+
+    def _confirm_discard(self, n: int) -> bool:
+        answer = self._choose(
+            f"Discard {n} recovered document{'s' if n > 1 else ''} for good?",
+            "Their unsaved changes cannot be brought back afterwards.",
+            [("cancel", "Cancel"), ("discard", "Discard")],
+        )
+        return answer == "discard"
+
+    def show_notice(self, title: str, message: str) -> None:
+        """Tell the user something worth knowing that is not a failure."""
+        QMessageBox(QMessageBox.Icon.Information, title, message, parent=self).exec()
+
+    def show_internal_error(self, line: str) -> None:
+        """Tell the user the program hit an internal error and will stop."""
+        QMessageBox(
+            QMessageBox.Icon.Critical,
+            f"{APP_TITLE}: internal error",
+            line + "\n\nUnsaved work was written to a recovery file; it is offered at the "
+            "next start. Elbow Room stops now.",
+            parent=self,
+        ).exec()
 
     def show_error(self, title: str, message: str, details: str = "") -> None:
         """Tell the user something failed (a one-line message naming file, path and value).
@@ -446,13 +632,54 @@ class MainWindow(QMainWindow):
         return answer == "discard"
 
     def _load(self, path: Path) -> Cell | None:
+        """Load and evaluate ``path``; None (after telling the user) when either fails."""
         try:
-            return load_cell(path)
+            cell = load_cell(path)
         except CellFileError as exc:
             more = len(exc.problems) - 1
             message = str(exc) + (f" (and {more} more problems)" if more > 0 else "")
             self.show_error("Could not open cell file", message, "\n".join(exc.problems))
             return None
+        except Exception as exc:  # noqa: BLE001 - a bug in the reader: contained, logged
+            self._report_engine_failure(path, exc, "could not be read")
+            return None
+        try:
+            prepare_cell(cell)
+        except Exception as exc:  # noqa: BLE001 - the engine failed on a valid file
+            self._report_engine_failure(path, exc, "loads but could not be evaluated")
+            return None
+        return cell
+
+    def _report_engine_failure(self, path: Path, exc: BaseException, what: str) -> None:
+        log = log_internal_error(exc, f"window: {path}")
+        where = f"details in {log}" if log is not None else "the error log could not be written"
+        self.show_error(
+            "Could not open cell file",
+            f"{path.name}: {what}: internal error ({type(exc).__name__}); {where}",
+        )
+
+    def _switch(self, cell: Cell, path: Path | None, saved: object = _CLEAN) -> bool:
+        """Show another document; on any failure put the current one back (False).
+
+        By default the new document starts clean; with ``saved`` (a cell, or None for
+        never saved) it opens modified against that, as recovered work does.
+        """
+        doc = self.document
+        before = (doc.cell, doc.path, doc.saved_cell)
+        try:
+            if saved is _CLEAN:
+                self._show_new_document(cell, path)
+            else:
+                doc.restore_state(cell, path, saved)  # type: ignore[arg-type]
+                self.undo_stack.clear()
+                self._update_title()
+                self.canvas.zoom_to_fit()
+        except Exception as exc:  # noqa: BLE001 - never half-switched
+            doc.restore_state(*before)
+            self._update_title()
+            self._report_engine_failure(path or Path(cell.name), exc, "could not be shown")
+            return False
+        return True
 
     def _show_new_document(self, cell: Cell, path: Path | None) -> None:
         self.document.replace(cell, path)
@@ -460,16 +687,53 @@ class MainWindow(QMainWindow):
         self._update_title()
         self.canvas.zoom_to_fit()
 
+    def _take_lock(self, path: Path, saving: bool = False) -> tuple[DocumentLock | None, str]:
+        """Lock ``path`` for this window: (lock, "ok" | "read-only" | "anyway" | "cancel")."""
+        if self.file_lock is not None and _same_file(self.file_lock.path, path):
+            return self.file_lock, "ok"
+        lock = DocumentLock(path)
+        holder = lock.acquire()
+        if holder is None:
+            return lock, "ok"
+        answer = self.ask_locked_file(path, holder, saving)
+        return (None, answer) if answer != "cancel" else (None, "cancel")
+
+    def _adopt_file(self, path: Path | None, lock: DocumentLock | None, read_only: bool) -> None:
+        """Make ``path`` this window's file: its lock, its watch, the title."""
+        if self.file_lock is not None and self.file_lock is not lock:
+            self.file_lock.release()
+        self.file_lock = lock
+        self.read_only = read_only
+        self.watch.watch(path)
+        self._update_title()
+
+    def claim_file(self) -> bool:
+        """Lock the document's file (asking when another copy holds it); False: cancelled."""
+        path = self.document.path
+        if path is None:
+            return True
+        lock, answer = self._take_lock(path)
+        if answer == "cancel":
+            return False
+        self._adopt_file(path, lock, answer == "read-only")
+        return True
+
     def new_file(self) -> bool:
         """Start a new cell with one arm."""
         if not self.maybe_save():
             return False
         self.untitled_name = UNTITLED
         self._show_new_document(new_cell(), None)
+        self._adopt_file(None, None, False)
+        self.recovery_file.remove()
         return True
 
     def open_file(self, path: Path | None = None) -> bool:
-        """Open a cell file (asks for one when ``path`` is None); a bad file changes nothing."""
+        """Open a cell file (asks for one when ``path`` is None); a bad file changes nothing.
+
+        The file must load and evaluate before the current document is given up; on
+        any failure the current document, title and path stay as they were.
+        """
         if path is None:
             path = self.ask_open_path()
             if path is None:
@@ -478,39 +742,85 @@ class MainWindow(QMainWindow):
         cell = self._load(path)  # check the file before asking to give up the current one
         if cell is None:
             return False
-        if not self.maybe_save():
+        lock, answer = self._take_lock(path)
+        if answer == "cancel":
             return False
-        self._show_new_document(cell, path)
+        if not self.maybe_save():
+            if lock is not None and lock is not self.file_lock:
+                lock.release()
+            return False
+        if not self._switch(cell, path):
+            if lock is not None and lock is not self.file_lock:
+                lock.release()
+            return False
+        self._adopt_file(path, lock, answer == "read-only")
+        self.recovery_file.remove()
         self._remember(path)
         return True
 
     def save(self) -> bool:
-        """Save to the document's file (asks for one when it has none)."""
-        if self.document.path is None:
+        """Save to the document's file (asks for one when it has none or it is read-only)."""
+        if self.document.path is None or self.read_only:
             return self.save_as()
         return self._write(self.document.path)
 
     def save_as(self) -> bool:
-        """Save to a file the user picks."""
+        """Save to a file the user picks (asking before replacing an existing one)."""
         path = self.ask_save_path()
         if path is None:
             return False
         if not path.name.endswith(CELL_SUFFIX):
             path = path.with_name(path.name.removesuffix(".json") + CELL_SUFFIX)
+        if os.path.lexists(path) and not os.path.isdir(path):
+            mine = _same_file(path, self.document.path) and not self.read_only
+            if not mine and not self.ask_replace_file(path):
+                return False
         return self._write(path)
 
     def _write(self, path: Path) -> bool:
         if self.document.previewing:
             self.document.cancel_preview()
-        try:
-            save_cell(self.document.cell, path)
-        except CellFileError as exc:
-            self.show_error("Could not save cell file", str(exc))
-            return False
+        own = _same_file(path, self.document.path) and not self.read_only
+        lock = self.file_lock
+        if own:
+            if self.watch.state() == "changed" and not self.ask_overwrite_outside_change(path):
+                return False
+        else:
+            lock, answer = self._take_lock(path, saving=True)
+            if answer == "cancel":
+                return False
+        replace_read_only = False
+        while True:
+            try:
+                outcome = save_cell(
+                    self.document.cell,
+                    path,
+                    backups=self.backup_count,
+                    replace_read_only=replace_read_only,
+                )
+            except ReadOnlyFileError:
+                if not replace_read_only and self.ask_replace_read_only(path):
+                    replace_read_only = True
+                    continue
+                self._drop_unused_lock(lock)
+                return False
+            except CellFileError as exc:
+                self._drop_unused_lock(lock)
+                self.show_error("Could not save cell file", str(exc))
+                return False
+            break
         self.document.mark_saved(path)
+        self._adopt_file(path, lock, False)
+        self.recovery_file.remove()
         self._remember(path)
         self.statusBar().showMessage(f"Saved {path}", 5000)
+        if outcome.notes:
+            self.show_notice("Saved", "\n".join(outcome.notes))
         return True
+
+    def _drop_unused_lock(self, lock: DocumentLock | None) -> None:
+        if lock is not None and lock is not self.file_lock:
+            lock.release()
 
     def revert(self) -> bool:
         """Reload the saved file, throwing away unsaved changes (after asking)."""
@@ -519,11 +829,165 @@ class MainWindow(QMainWindow):
             return False
         if self.document.dirty and not self.ask_revert():
             return False
+        return self._reload(path)
+
+    def _reload(self, path: Path) -> bool:
         cell = self._load(path)
         if cell is None:
             return False
-        self._show_new_document(cell, path)
+        if not self._switch(cell, path):
+            return False
+        self.watch.remember()
+        self.recovery_file.remove()
         return True
+
+    # ------------------------------------------------------------------ outside changes
+
+    def _on_outside_change(self, state: str) -> None:
+        path = self.document.path
+        if path is None:
+            return
+        if self.document.previewing:  # never in the middle of a drag: ask once it ends
+            QTimer.singleShot(500, lambda: self._on_outside_change(state))
+            return
+        if state == "missing":
+            self.statusBar().showMessage(
+                f"{path.name} was moved or deleted by another program; Save writes it again",
+                15000,
+            )
+            return
+        if self.ask_outside_change(path) == "reload":
+            self._reload(path)
+        else:
+            self.statusBar().showMessage(
+                f"Kept this window's version; saving will ask before replacing {path.name}",
+                8000,
+            )
+
+    # ------------------------------------------------------------------ autosave, recovery
+
+    def set_autosave_minutes(self, minutes: float) -> None:
+        """Autosave unsaved work every ``minutes`` (and after every AUTOSAVE_EDITS edits)."""
+        self.autosave_timer.start(max(100, int(minutes * 60_000)))
+
+    def _count_edit(self, _index: int) -> None:
+        self._edits_since_autosave += 1
+        if self._edits_since_autosave >= AUTOSAVE_EDITS:
+            self.autosave()
+
+    def autosave(self) -> bool:
+        """Write unsaved work to the recovery file, when it changed since; True if written."""
+        self._edits_since_autosave = 0
+        doc = self.document
+        if not doc.dirty:
+            if self.recovery_file.written is not None:
+                self.recovery_file.remove()
+            return False
+        if self.recovery_file.written is doc.cell:
+            return False
+        try:
+            self.recovery_file.write(doc.cell, doc.path)
+        except (OSError, CellFileError) as exc:
+            if not self._autosave_failed:
+                self.statusBar().showMessage(f"Autosave failed: {exc}", 15000)
+            self._autosave_failed = True
+            return False
+        self._autosave_failed = False
+        return True
+
+    def offer_recovery(self) -> list[MainWindow]:
+        """Offer unsaved work left by copies that stopped; the windows it was restored in."""
+        entries = recovery.find_recoverable(exclude=self.recovery_file.path)
+        if not entries:
+            return []
+        bad = [e for e in entries if e.cell is None]
+        if bad:
+            lines = []
+            for e in bad:
+                try:
+                    dest = recovery.set_aside(e)
+                    lines.append(f"{e.path.name}: {e.problem}; kept as {dest}")
+                except OSError as exc:
+                    e.release()
+                    lines.append(f"{e.path.name}: {e.problem}; left in place ({exc.strerror})")
+            more = f" (and {len(lines) - 1} more)" if len(lines) > 1 else ""
+            self.show_error("Recovery file does not load", lines[0] + more, "\n".join(lines))
+        good = [e for e in entries if e.cell is not None]
+        if not good:
+            return []
+        choices = self.ask_recovery(good)
+        restored: list[MainWindow] = []
+        for entry, choice in zip(good, choices):
+            if choice == "discard":
+                recovery.discard(entry)
+            elif choice == "restore":
+                win = self._restore(entry)
+                if win is not None:
+                    restored.append(win)
+            else:
+                entry.release()
+        return restored
+
+    def _restore(self, entry: recovery.RecoveryEntry) -> MainWindow | None:
+        """Open a recovered document as modified (here when this window is free)."""
+        assert entry.cell is not None
+        free = not self.document.dirty and (
+            self.document.path is None or _same_file(self.document.path, entry.file)
+        )
+        if free and not self.recovery_file.written:
+            win = self
+        else:
+            win = MainWindow(use_settings=self.use_settings)
+            for name in dir(self):  # answers patched onto this window apply there too
+                if name.startswith(("ask_", "show_")) and name in vars(self):
+                    setattr(win, name, getattr(self, name))
+            self.spawned.append(win)
+        try:
+            prepare_cell(entry.cell)
+        except Exception as exc:  # noqa: BLE001 - kept for a later start
+            entry.release()
+            self._report_engine_failure(entry.path, exc, "could not be evaluated")
+            return None
+        path = entry.file
+        saved = entry.saved
+        if not win._switch(entry.cell, path, saved):
+            entry.release()
+            return None
+        lock = None
+        read_only = False
+        if path is not None:
+            lock, answer = win._take_lock(path)
+            read_only = answer in ("read-only", "cancel")
+        win._adopt_file(path, lock, read_only)
+        if path is not None and saved is None and path.exists():
+            win.watch.remember()
+        if win.autosave():  # the restored work is safe in this window's file first
+            recovery.discard(entry)
+        else:
+            entry.release()
+        if win is not self:
+            win.show()
+        win.statusBar().showMessage("Restored unsaved work from a recovery file", 10000)
+        return win
+
+    def edit_safety_settings(self) -> bool:
+        """Set the backup count and the autosave interval (stored in the settings)."""
+        from app.safety_dialogs import SafetySettingsDialog
+
+        minutes = self.autosave_timer.interval() / 60_000
+        dialog = SafetySettingsDialog(self.backup_count, minutes, self)
+        if dialog.exec() != SafetySettingsDialog.DialogCode.Accepted:
+            return False
+        self.backup_count = dialog.backups.value()
+        self.set_autosave_minutes(dialog.minutes.value())
+        if self.use_settings:
+            app_settings.set_backup_count(self.backup_count)
+            app_settings.set_autosave_minutes(dialog.minutes.value())
+        return True
+
+    def release_files(self) -> None:
+        """Give up the file lock and the watch (the window is going away)."""
+        self._adopt_file(None, None, False)
 
     def _remember(self, path: Path) -> None:
         if self.use_settings:
@@ -636,4 +1100,7 @@ class MainWindow(QMainWindow):
             event.ignore()
             return
         self.save_settings()
+        self.autosave_timer.stop()
+        self.recovery_file.remove()  # saved or discarded: nothing left to recover
+        self.release_files()
         event.accept()

@@ -27,6 +27,12 @@ __all__ = [
     "save_toggles",
     "load_snap_pitches",
     "save_snap_pitches",
+    "DEFAULT_BACKUPS",
+    "DEFAULT_AUTOSAVE_MINUTES",
+    "backup_count",
+    "set_backup_count",
+    "autosave_minutes",
+    "set_autosave_minutes",
 ]
 
 ORGANISATION = "ElbowRoom"
@@ -37,6 +43,14 @@ MAX_RECENT = 8
 _RECENT_KEY = "files/recent"
 _TOGGLE_GROUP = "canvas"
 _PITCH_GROUP = "snap_pitch"
+_BACKUPS_KEY = "files/backups"
+_AUTOSAVE_KEY = "files/autosave_minutes"
+#: Backups kept beside a saved file unless the user sets another count.
+DEFAULT_BACKUPS = 3
+#: Minutes between autosaves unless the user sets another interval.
+DEFAULT_AUTOSAVE_MINUTES = 2.0
+_BACKUPS_RANGE = (0, 50)
+_AUTOSAVE_RANGE = (0.01, 24 * 60.0)
 
 
 def open_settings() -> QSettings:
@@ -156,4 +170,37 @@ def save_snap_pitches(pitches: dict[str, float], settings: QSettings | None = No
     for units, value in pitches.items():
         s.setValue(units, float(value))
     s.endGroup()
+    s.sync()
+
+
+def _number(key: str, default: float, lo: float, hi: float, settings: QSettings | None) -> float:
+    value = (settings or open_settings()).value(key)
+    try:
+        number = float(value) if value is not None else default
+    except (TypeError, ValueError):
+        return default
+    if not math.isfinite(number):
+        return default
+    return min(max(number, lo), hi)
+
+
+def backup_count(settings: QSettings | None = None) -> int:
+    """How many timestamped backups to keep beside each saved file (default 3)."""
+    return int(_number(_BACKUPS_KEY, DEFAULT_BACKUPS, *_BACKUPS_RANGE, settings))
+
+
+def set_backup_count(count: int, settings: QSettings | None = None) -> None:
+    s = settings or open_settings()
+    s.setValue(_BACKUPS_KEY, int(min(max(count, _BACKUPS_RANGE[0]), _BACKUPS_RANGE[1])))
+    s.sync()
+
+
+def autosave_minutes(settings: QSettings | None = None) -> float:
+    """Minutes between autosaves of unsaved work to the recovery file (default 2)."""
+    return _number(_AUTOSAVE_KEY, DEFAULT_AUTOSAVE_MINUTES, *_AUTOSAVE_RANGE, settings)
+
+
+def set_autosave_minutes(minutes: float, settings: QSettings | None = None) -> None:
+    s = settings or open_settings()
+    s.setValue(_AUTOSAVE_KEY, float(min(max(minutes, _AUTOSAVE_RANGE[0]), _AUTOSAVE_RANGE[1])))
     s.sync()

@@ -10,8 +10,8 @@ and back:
   Bad input never raises any other exception.
 * :func:`cell_to_dict` / :func:`dumps_cell` write the canonical text (stable key
   order, 2-space indent, trailing newline).
-* :func:`save_cell` writes a file atomically and keeps the previous file as
-  ``<file name>.bak``.
+* :func:`save_cell` writes a file atomically and keeps earlier versions as
+  timestamped backups ``<file name>.<YYYYMMDD-HHMMSS>.bak`` (:mod:`kinematics.savefile`).
 
 Numbers are held as floats in the data types; a float with an integral value is
 written as an integer (``120.0`` is written ``120``), so a canonically written
@@ -35,10 +35,17 @@ from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
-from kinematics.atomic import write_atomic
 from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
 from kinematics.checks import choice_problem, polygon_problem
+from kinematics.savefile import (
+    BACKUPS_KEPT,
+    ReadOnlyTargetError,
+    SaveError,
+    SaveOutcome,
+    check_target,
+    save_bytes,
+)
 
 __all__ = [
     "FORMAT",
@@ -50,7 +57,9 @@ __all__ = [
     "LINK_LENGTH_RANGE",
     "MAX_JOINT_RANGE_DEG",
     "BACKUP_SUFFIX",
+    "BACKUPS_KEPT",
     "CellFileError",
+    "ReadOnlyFileError",
     "load_cell",
     "parse_cell",
     "cell_to_dict",
@@ -75,7 +84,7 @@ MAX_MAGNITUDE = 1e9
 LINK_LENGTH_RANGE = (1e-3, 1e6)
 #: Widest joint range accepted, max - min, in degrees.
 MAX_JOINT_RANGE_DEG = 720.0
-#: Appended to a file name for the copy of the previous file kept by :func:`save_cell`.
+#: Ending of the backups kept by :func:`save_cell` (``<file name>.<YYYYMMDD-HHMMSS>.bak``).
 BACKUP_SUFFIX = ".bak"
 
 _MAX_PROBLEMS = 100
@@ -137,6 +146,10 @@ class CellFileError(Exception):
 
     def __str__(self) -> str:
         return self.problems[0]
+
+
+class ReadOnlyFileError(CellFileError):
+    """Saving would replace a read-only file; ``save_cell(..., replace_read_only=True)`` does."""
 
 
 # --------------------------------------------------------------------------- showing values
@@ -1079,13 +1092,21 @@ def _newer_version_on_disk(path: Path) -> int | None:
     return None
 
 
-def save_cell(cell: Cell, path: str | os.PathLike[str], *, replace_newer: bool = False) -> None:
-    """Write a cell file atomically, keeping the previous file as a backup.
+def save_cell(
+    cell: Cell,
+    path: str | os.PathLike[str],
+    *,
+    replace_newer: bool = False,
+    backups: int = BACKUPS_KEPT,
+    replace_read_only: bool = False,
+) -> SaveOutcome:
+    """Write a cell file atomically, keeping earlier versions as timestamped backups.
 
     The text goes to a temporary file in the same folder, is flushed to disk,
     and then replaces the target in one rename, so the target is always either
     the old or the new file, never a half-written one. If the target existed,
-    its previous content is kept next to it as ``<file name>.bak``.
+    its previous content is kept next to it as ``<file name>.<YYYYMMDD-HHMMSS>.bak``
+    (UTC), at most ``backups`` of them (see :mod:`kinematics.savefile`).
 
     Parameters
     ----------
@@ -1096,24 +1117,34 @@ def save_cell(cell: Cell, path: str | os.PathLike[str], *, replace_newer: bool =
     replace_newer : bool, optional
         Overwrite a file written by a newer Elbow Room. By default that is refused,
         since the newer file may hold data this program would drop.
+    backups : int, optional
+        Backups kept beside the file (default :data:`BACKUPS_KEPT`).
+    replace_read_only : bool, optional
+        Replace a read-only file (it stays read-only). Refused by default.
+
+    Returns
+    -------
+    SaveOutcome
+        The file written, the backup made, and notes such as broken hard links.
 
     Raises
     ------
+    ReadOnlyFileError
+        The target is a read-only file and ``replace_read_only`` is false.
     CellFileError
         When the cell would not load back, the target is a newer file (see
-        ``replace_newer``), or writing fails; the target is then unchanged and no
-        temporary file is left.
+        ``replace_newer``), is not a regular file, or writing fails; the target and
+        its backups are then unchanged and no temporary file is left.
     """
     source = _source_name(path)
     text = _dumps(cell, source)
     data = text.encode("utf-8")
-    target = Path(os.path.realpath(path))
-    folder = target.parent
-    backup = folder / (target.name + BACKUP_SUFFIX)
-    if target.is_dir():
-        raise CellFileError(f"{source}: is a folder; choose a file name to save to")
-    exists = target.exists()
-    if exists and not replace_newer:
+    try:
+        # Before anything reads the target: a named pipe would block the reader for good.
+        target = check_target(path, source)
+    except SaveError as exc:
+        raise CellFileError(str(exc)) from None
+    if not replace_newer and target.exists():
         newer = _newer_version_on_disk(target)
         if newer is not None:
             raise CellFileError(
@@ -1122,12 +1153,10 @@ def save_cell(cell: Cell, path: str | os.PathLike[str], *, replace_newer: bool =
                 "not know, so it was not saved (save under another name)"
             )
     try:
-        if exists:
-            # The previous version goes to the backup first, the same atomic way.
-            mode = stat.S_IMODE(target.stat().st_mode)
-            write_atomic(backup, target.read_bytes(), mode)
-            write_atomic(target, data, mode)
-        else:
-            write_atomic(target, data)
-    except OSError as exc:
-        raise CellFileError(f"{source}: could not be saved ({_os_reason(exc)})") from None
+        return save_bytes(
+            target, data, backups=backups, replace_read_only=replace_read_only, source=source
+        )
+    except ReadOnlyTargetError as exc:
+        raise ReadOnlyFileError(str(exc)) from None
+    except SaveError as exc:
+        raise CellFileError(str(exc)) from None

@@ -12,6 +12,8 @@ import pytest
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 # QSettings (native format on Linux) and QStandardPaths follow XDG_CONFIG_HOME.
 os.environ["XDG_CONFIG_HOME"] = tempfile.mkdtemp(prefix="elbowroom-test-config-")
+# platformdirs follows XDG_STATE_HOME: error log and recovery files never in the real folder.
+os.environ["XDG_STATE_HOME"] = tempfile.mkdtemp(prefix="elbowroom-test-state-")
 
 
 @pytest.fixture
@@ -26,3 +28,11 @@ def isolated_settings(tmp_path):
     )
     yield tmp_path / "qsettings"
     QSettings.setDefaultFormat(old)
+
+
+@pytest.fixture(autouse=True)
+def isolated_state(tmp_path, monkeypatch):
+    """A fresh user state folder (error log, recovery files) for every test."""
+    folder = tmp_path / "user-state"
+    monkeypatch.setenv("XDG_STATE_HOME", str(folder))
+    return folder

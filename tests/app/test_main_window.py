@@ -18,6 +18,7 @@ from app.panels.target_table import COLUMNS
 from app.panels.validate import replace_arm
 from kinematics.caution import CAUTION_FULL, CAUTION_SHORT
 from kinematics.cellfile import dumps_cell, load_cell
+from kinematics.savefile import backup_files
 
 REPO = Path(__file__).resolve().parents[2]
 SAMPLES = sorted((REPO / "sample_cells").glob("*.cell.json"))
@@ -243,7 +244,8 @@ def test_save_then_reopen_equals_the_document(window, answers, tmp_path, make_wi
     move_base(window, 20.0, -5.0)
     assert window.save()
     # The previous version is kept as a backup next to the file.
-    assert dumps_cell(load_cell(tmp_path / "layout.cell.json.bak")).count('"x": 15') == 1
+    (backup,) = backup_files(target)
+    assert dumps_cell(load_cell(backup)).count('"x": 15') == 1
     other = make_window(target)
     assert dumps_cell(other.document.cell) == dumps_cell(window.document.cell)
 

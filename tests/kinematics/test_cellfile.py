@@ -823,15 +823,17 @@ def test_save_keeps_the_previous_file_as_backup(tmp_path: Path) -> None:
     path.write_text("previous content", encoding="utf-8")
     os.chmod(path, 0o640)
     cell = parse_cell(json.dumps(doc()))
-    save_cell(cell, path)
-    backup = tmp_path / "out.cell.json.bak"
-    assert backup.read_text(encoding="utf-8") == "previous content"
+    first = save_cell(cell, path)
+    assert first.backup is not None and first.backup.parent == tmp_path
+    assert first.backup.read_text(encoding="utf-8") == "previous content"
+    assert first.backup.name.startswith("out.cell.json.") and first.backup.name.endswith(".bak")
     assert load_cell(path) == cell
     assert (path.stat().st_mode & 0o777) == 0o640  # permissions of the file are kept
+    assert (first.backup.stat().st_mode & 0o777) == 0o640  # and given to its backup
     second = Cell(name="second")
-    save_cell(second, path)
-    assert load_cell(backup) == cell and load_cell(path) == second
-    assert _dir_names(tmp_path) == {"out.cell.json", "out.cell.json.bak"}
+    outcome = save_cell(second, path)
+    assert load_cell(outcome.backup) == cell and load_cell(path) == second
+    assert _dir_names(tmp_path) == {"out.cell.json", first.backup.name, outcome.backup.name}
 
 
 @pytest.mark.parametrize("failing", ["replace", "fsync"])
@@ -847,11 +849,12 @@ def test_failed_save_leaves_the_old_file_and_no_temp(
     monkeypatch.setattr(os, failing, fail)
     with pytest.raises(CellFileError) as info:
         save_cell(parse_cell(json.dumps(doc())), path)
-    assert str(info.value) == "out.cell.json: could not be saved (No space left on device)"
+    assert str(info.value) == (
+        f"out.cell.json: not saved: the disk holding {tmp_path} is full "
+        "(the file and its backups are unchanged)"
+    )
     assert path.read_text(encoding="utf-8") == "old"
-    assert _dir_names(tmp_path) <= {"out.cell.json", "out.cell.json.bak"}
-    bak = tmp_path / "out.cell.json.bak"
-    assert not bak.exists() or bak.read_text(encoding="utf-8") == "old"
+    assert _dir_names(tmp_path) == {"out.cell.json"}
 
 
 def test_save_interrupted_by_another_exception_still_cleans_up(
@@ -896,13 +899,15 @@ def test_save_will_not_overwrite_a_newer_file_unless_told(tmp_path: Path) -> Non
     assert path.read_bytes() == before and _dir_names(tmp_path) == {"newer.cell.json"}
     save_cell(Cell(name="n"), path, replace_newer=True)
     assert load_cell(path) == Cell(name="n")
-    assert (tmp_path / "newer.cell.json.bak").read_bytes() == before
+    (backup,) = [p for p in tmp_path.iterdir() if p.name.endswith(".bak")]
+    assert backup.read_bytes() == before
 
 
 def test_save_into_a_missing_folder(tmp_path: Path) -> None:
     with pytest.raises(CellFileError) as info:
         save_cell(Cell(name="n"), tmp_path / "no" / "such" / "x.cell.json")
-    assert str(info.value) == "x.cell.json: could not be saved (no such file or folder)"
+    folder = tmp_path / "no" / "such"
+    assert str(info.value) == f"x.cell.json: not saved: the folder {folder} does not exist"
 
 
 def test_save_onto_a_folder(tmp_path: Path) -> None:

@@ -44,8 +44,8 @@ class SweptLayer:
         expected = {
             (s.arm, a, b)
             for s in cell.sequences
-            for a, b in zip(s.targets, (*s.targets[1:], s.targets[0]))
             if len(s.targets) > 1
+            for a, b in zip(s.targets, (*s.targets[1:], s.targets[0]))
         }
         self.stale = not expected <= known
         self.moves = moves
