@@ -9,6 +9,8 @@ merge into a single step.
 
 from __future__ import annotations
 
+import sys
+
 from PySide6.QtGui import QUndoCommand, QUndoStack
 
 from app.document import Document, Edit
@@ -28,10 +30,10 @@ class EditCommand(QUndoCommand):
         self.edit = edit
 
     def redo(self) -> None:
-        self.document.apply(self.edit.after)
+        _guarded(self.document.apply, self.edit.after)
 
     def undo(self) -> None:
-        self.document.apply(self.edit.before)
+        _guarded(self.document.apply, self.edit.before)
 
     def id(self) -> int:
         return EDIT_COMMAND_ID if self.edit.merge_key is not None else -1
@@ -42,6 +44,16 @@ class EditCommand(QUndoCommand):
         # A drag that ends where it began leaves nothing to undo.
         self.setObsolete(self.edit.after == self.edit.before)
         return True
+
+
+def _guarded(fn, *args) -> None:
+    # An exception escaping a Qt virtual override (redo/undo, called from C++) takes the
+    # process down without a word; hand it to sys.excepthook instead (the window's hook
+    # saves the work, logs it and stops cleanly).
+    try:
+        fn(*args)
+    except Exception:  # noqa: BLE001 - reported through the hook, not swallowed
+        sys.excepthook(*sys.exc_info())
 
 
 def attach_undo_stack(document: Document, stack: QUndoStack) -> None:
