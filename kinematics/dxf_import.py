@@ -347,7 +347,7 @@ def outline_points(segments: Iterable[Segment], tol: float) -> NDArray[np.float6
     >>> pts = outline_points([("A", (0, 0), (1, 0), (0, 1), 0.0, 2 * math.pi)], 1e-3)
     >>> r = np.hypot(pts[:, 0], pts[:, 1])
     >>> bool(r.min() >= 1.0), bool(r.max() <= 1.001), len(pts)
-    (True, True, 71)
+    (True, True, 72)
     """
     segs = list(segments)
     orient = 1.0 if _signed_area(_coarse(segs)) >= 0 else -1.0
