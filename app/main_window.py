@@ -32,6 +32,7 @@ from app import settings as app_settings
 from app.canvas import CellCanvas
 from app.commands import attach_undo_stack
 from app.document import Changes, Document
+from app.exchange_dialogs import ExchangeActions
 from app.panels.arm_panel import ArmPanel
 from app.panels.problems import ProblemsList
 from app.panels.target_table import TargetTable
@@ -228,6 +229,9 @@ class MainWindow(QMainWindow):
         file_menu.addAction(self.act_save)
         file_menu.addAction(self.act_save_as)
         file_menu.addAction(self.act_revert)
+        file_menu.addSeparator()
+        self.exchange = ExchangeActions(self)
+        self.exchange.add_to(file_menu)
         file_menu.addSeparator()
         file_menu.addAction(self.act_quit)
 

@@ -1,4 +1,5 @@
-"""The program's remembered settings: recent files, window layout, canvas toggles, snap pitch.
+"""The program's remembered settings: recent files, window layout, canvas toggles, snap pitch,
+and the layer choices made per imported DXF file.
 
 Stored with QSettings under organisation "ElbowRoom", application "Elbow Room",
 in :meth:`QSettings.defaultFormat`, so tests can redirect everything to a
@@ -27,6 +28,8 @@ __all__ = [
     "save_toggles",
     "load_snap_pitches",
     "save_snap_pitches",
+    "load_dxf_choices",
+    "save_dxf_choices",
 ]
 
 ORGANISATION = "ElbowRoom"
@@ -156,4 +159,35 @@ def save_snap_pitches(pitches: dict[str, float], settings: QSettings | None = No
     for units, value in pitches.items():
         s.setValue(units, float(value))
     s.endGroup()
+    s.sync()
+
+
+_DXF_GROUP = "dxf_import"
+
+
+def _dxf_key(path: Path) -> str:
+    import hashlib
+
+    return hashlib.sha1(str(Path(path).resolve()).encode("utf-8")).hexdigest()
+
+
+def load_dxf_choices(path: Path, settings: QSettings | None = None) -> dict:
+    """The layer kinds, heights and units last chosen for importing this DXF file ({} if none)."""
+    import json
+
+    s = settings or open_settings()
+    text = s.value(f"{_DXF_GROUP}/{_dxf_key(path)}")
+    try:
+        value = json.loads(text) if isinstance(text, str) else None
+    except ValueError:
+        return {}
+    return value if isinstance(value, dict) else {}
+
+
+def save_dxf_choices(path: Path, choices: dict, settings: QSettings | None = None) -> None:
+    """Remember the choices made for importing this DXF file (a JSON-ready dict)."""
+    import json
+
+    s = settings or open_settings()
+    s.setValue(f"{_DXF_GROUP}/{_dxf_key(path)}", json.dumps(choices, sort_keys=True))
     s.sync()
