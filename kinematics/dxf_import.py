@@ -425,7 +425,8 @@ def _locate_break(path: str | os.PathLike[str]) -> tuple[int, str] | None:
             shown = code_text if len(code_text) <= 30 else code_text[:27] + "..."
             return i + 1, f"a group code (a whole number) was expected, got {shown!r}"
         if i + 1 >= len(lines):
-            return i + 1, "the file ends after a group code, without its value"
+            inside = f" inside the {section} section" if section else ""
+            return i + 1, f"the file ends{inside} after a group code, without its value"
         value = lines[i + 1].strip()
         if code_text == "0":
             if value == "SECTION":
