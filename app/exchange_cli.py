@@ -20,8 +20,6 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
-import app.cli as cli  # attribute access at run time: app.cli imports this module
-
 __all__ = ["Export", "EXPORTS", "export_command", "import_dxf_command"]
 
 
@@ -29,8 +27,10 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports a bad argument in one line and exits 2."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
+        from app.cli import EXIT_UNUSABLE
+
         sys.stderr.write(f"{self.prog}: {message} (see '{self.prog} --help')\n")
-        raise SystemExit(cli.EXIT_UNUSABLE)
+        raise SystemExit(EXIT_UNUSABLE)
 
 
 @dataclass(frozen=True)
@@ -100,6 +100,9 @@ def _export_parser() -> argparse.ArgumentParser:
 
 def export_command(args: list[str]) -> int:
     """``elbowroom export``: write every requested output, atomically; exit status."""
+    # Imported here: app.cli imports this module to register the subcommands.
+    from app.cli import EXIT_OK, EXIT_UNUSABLE
+
     parser = _export_parser()
     ns = parser.parse_args(args)
     wanted = [(e, getattr(ns, e.option.lstrip("-"))) for e in EXPORTS]
@@ -110,21 +113,21 @@ def export_command(args: list[str]) -> int:
     for e, path in wanted:
         if path.is_dir():
             sys.stderr.write(f"{path}: {e.option}: is a folder; give a file name\n")
-            return cli.EXIT_UNUSABLE
+            return EXIT_UNUSABLE
         if not path.parent.exists():
             sys.stderr.write(f"{path}: {e.option}: could not be written (no such folder)\n")
-            return cli.EXIT_UNUSABLE
+            return EXIT_UNUSABLE
     cell = _load_cell(ns.cell)
     if cell is None:
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     for e, path in wanted:
         try:
             e.write(cell, path)
         except OSError as exc:
             sys.stderr.write(f"{path}: {e.option}: could not be written ({_os_reason(exc)})\n")
-            return cli.EXIT_UNUSABLE
+            return EXIT_UNUSABLE
         sys.stdout.write(f"wrote {path}\n")
-    return cli.EXIT_OK
+    return EXIT_OK
 
 
 def _pairs(values: list[str] | None, option: str, parser: argparse.ArgumentParser) -> dict:
@@ -182,6 +185,7 @@ def _import_parser() -> argparse.ArgumentParser:
 
 def import_dxf_command(args: list[str]) -> int:
     """``elbowroom import-dxf``: read, merge, save atomically; exit status."""
+    from app.cli import EXIT_INFEASIBLE, EXIT_OK, EXIT_UNUSABLE
     from kinematics.cellfile import CellFileError, save_cell
     from kinematics.dxf_import import DxfReadError, dxf_fixtures, merge_fixtures, read_dxf
 
@@ -198,13 +202,13 @@ def import_dxf_command(args: list[str]) -> int:
     out = ns.output if ns.output is not None else ns.cell
     if out.is_dir():
         sys.stderr.write(f"{out}: is a folder; give a file name with -o\n")
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     if not out.parent.exists():
         sys.stderr.write(f"{out}: could not be written (no such folder)\n")
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     cell = _load_cell(ns.cell)
     if cell is None:
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     try:
         drawing = read_dxf(ns.dxf, recover=ns.recover)
         if drawing.recovered:
@@ -221,13 +225,13 @@ def import_dxf_command(args: list[str]) -> int:
     except DxfReadError as exc:
         hint = "" if ns.recover or "line " not in str(exc) else " (--recover reads what it can)"
         sys.stderr.write(f"{exc}{hint}\n")
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     merge = merge_fixtures(cell, result.fixtures, drop_missing=ns.drop_missing)
     try:
         save_cell(merge.cell, out)
     except CellFileError as exc:
         sys.stderr.write(f"{exc}\n")
-        return cli.EXIT_UNUSABLE
+        return EXIT_UNUSABLE
     units_note = "" if ns.units is None else f" (read as {ns.units})"
     lines = [f"{drawing.source}{units_note}: {merge.summary()}; saved {out}"]
     lines += [f"  {line}" for line in result.summary_lines()]
@@ -235,4 +239,4 @@ def import_dxf_command(args: list[str]) -> int:
     if len(result.notes) > 20:
         lines.append(f"  ... and {len(result.notes) - 20} more entities not imported")
     sys.stdout.write("".join(f"{line}\n" for line in lines))
-    return cli.EXIT_INFEASIBLE if result.notes else cli.EXIT_OK
+    return EXIT_INFEASIBLE if result.notes else EXIT_OK
