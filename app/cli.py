@@ -22,6 +22,8 @@ import sys
 from collections.abc import Callable
 from pathlib import Path
 
+from app.exchange_cli import export_command, import_dxf_command
+
 __all__ = [
     "main",
     "SUBCOMMANDS",
@@ -64,7 +66,8 @@ def _check_parser() -> argparse.ArgumentParser:
 def _window_parser() -> argparse.ArgumentParser:
     p = _Parser(
         prog="elbowroom",
-        description="Open the Elbow Room window. Subcommands: 'check CELL [--json]'.",
+        description="Open the Elbow Room window. Subcommands: 'check CELL [--json]', "
+        "'export CELL ...', 'import-dxf CELL DXF ...' (each with --help).",
     )
     p.add_argument("cell", type=Path, nargs="?", help="a *.cell.json file (default: bundled cell)")
     p.add_argument("--screenshot", type=Path, metavar="FILE.png", help="save the window and exit")
@@ -165,6 +168,8 @@ def _check_command(args: list[str]) -> int:
 #: Subcommand name -> function(remaining arguments) -> exit status.
 SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
     "check": _check_command,
+    "export": export_command,
+    "import-dxf": import_dxf_command,
 }
 
 

@@ -43,6 +43,7 @@ from app.canvas import CellCanvas
 from app.commands import attach_undo_stack
 from app.document import Changes, Document
 from app.errorlog import log_internal_error
+from app.exchange_dialogs import ExchangeActions
 from app.filelock import DocumentLock, LockHolder
 from app.filewatch import FileWatch
 from app.panels.arm_panel import ArmPanel
@@ -300,6 +301,9 @@ class MainWindow(QMainWindow):
         file_menu.addAction(self.act_save_as)
         file_menu.addAction(self.act_revert)
         file_menu.addAction(self.act_safety)
+        file_menu.addSeparator()
+        self.exchange = ExchangeActions(self)
+        self.exchange.add_to(file_menu)
         file_menu.addSeparator()
         file_menu.addAction(self.act_quit)
 

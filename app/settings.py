@@ -1,4 +1,5 @@
-"""The program's remembered settings: recent files, window layout, canvas toggles, snap pitch.
+"""The program's remembered settings: recent files, window layout, canvas toggles, snap pitch,
+and the layer choices made per imported DXF file.
 
 Stored with QSettings under organisation "ElbowRoom", application "Elbow Room",
 in :meth:`QSettings.defaultFormat`, so tests can redirect everything to a
@@ -33,6 +34,8 @@ __all__ = [
     "set_backup_count",
     "autosave_minutes",
     "set_autosave_minutes",
+    "load_dxf_choices",
+    "save_dxf_choices",
 ]
 
 ORGANISATION = "ElbowRoom"
@@ -203,4 +206,35 @@ def autosave_minutes(settings: QSettings | None = None) -> float:
 def set_autosave_minutes(minutes: float, settings: QSettings | None = None) -> None:
     s = settings or open_settings()
     s.setValue(_AUTOSAVE_KEY, float(min(max(minutes, _AUTOSAVE_RANGE[0]), _AUTOSAVE_RANGE[1])))
+    s.sync()
+
+
+_DXF_GROUP = "dxf_import"
+
+
+def _dxf_key(path: Path) -> str:
+    import hashlib
+
+    return hashlib.sha1(str(Path(path).resolve()).encode("utf-8")).hexdigest()
+
+
+def load_dxf_choices(path: Path, settings: QSettings | None = None) -> dict:
+    """The layer kinds, heights and units last chosen for importing this DXF file ({} if none)."""
+    import json
+
+    s = settings or open_settings()
+    text = s.value(f"{_DXF_GROUP}/{_dxf_key(path)}")
+    try:
+        value = json.loads(text) if isinstance(text, str) else None
+    except ValueError:
+        return {}
+    return value if isinstance(value, dict) else {}
+
+
+def save_dxf_choices(path: Path, choices: dict, settings: QSettings | None = None) -> None:
+    """Remember the choices made for importing this DXF file (a JSON-ready dict)."""
+    import json
+
+    s = settings or open_settings()
+    s.setValue(f"{_DXF_GROUP}/{_dxf_key(path)}", json.dumps(choices, sort_keys=True))
     s.sync()

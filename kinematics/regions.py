@@ -48,6 +48,8 @@ __all__ = [
     "both_elbows_region",
     "comfort_region",
     "arm_regions",
+    "RegionArcs",
+    "config_region_arcs",
 ]
 
 #: The two elbow configurations, each with the sign of its elbow angle.
@@ -892,3 +894,81 @@ def arm_regions(
         both=both,
         comfort=comfort,
     )
+
+
+@dataclass(frozen=True)
+class RegionArcs:
+    """The exact boundary of a configuration region as circle arcs.
+
+    Attributes
+    ----------
+    centres : ndarray, shape (N, 2)
+    radii : ndarray, shape (N,)
+    start_deg, span_deg : ndarray, shape (N,)
+        Each arc runs counter-clockwise from ``start_deg`` through ``span_deg`` (360 for a
+        full circle), in world degrees.
+    """
+
+    centres: np.ndarray
+    radii: np.ndarray
+    start_deg: np.ndarray
+    span_deg: np.ndarray
+
+
+def config_region_arcs(
+    a1: float,
+    a2: float,
+    q1_limits: Sequence[float],
+    q2_limits: Sequence[float],
+    elbow: str,
+    x: float = 0.0,
+    y: float = 0.0,
+    heading_deg: float = 0.0,
+) -> RegionArcs:
+    """The arcs that bound :func:`config_region` exactly (the polygon approximates them).
+
+    Per elbow interval: the ``q2 = const`` edges of the limit box map to arcs about the
+    base of radius ``r(q2)``, the ``q1 = const`` edges to arcs of radius ``a2`` about the
+    elbow points; a shoulder span of a full turn or more gives two full circles. Arcs
+    of zero radius (full fold with ``a1 == a2``) are left out.
+
+    Parameters
+    ----------
+    a1, a2, q1_limits, q2_limits, elbow, x, y, heading_deg
+        As for :func:`config_region`.
+
+    Returns
+    -------
+    RegionArcs
+
+    Examples
+    --------
+    >>> arcs = config_region_arcs(300.0, 200.0, (-90.0, 90.0), (0.0, 120.0), "positive")
+    >>> arcs.radii.round(6).tolist()
+    [500.0, 264.575131, 200.0, 200.0]
+    >>> arcs.span_deg.round(6).tolist()
+    [180.0, 180.0, 120.0, 120.0]
+    """
+    _check_lengths(a1, a2)
+    _check_elbow(elbow, CONFIGURATIONS)
+    q1lo, q1hi = _check_limits("q1_limits", q1_limits)
+    q2lo, q2hi = _check_limits("q2_limits", q2_limits)
+    sign = _SIGN[elbow]
+    x, y, h = float(x), float(y), float(heading_deg)
+    span1 = q1hi - q1lo
+    rows: list[tuple[float, float, float, float, float]] = []
+    if span1 > _EPS_DEG:
+        for ulo, uhi in _q2_sets(q2lo, q2hi, sign):
+            rlo, rhi = _radius(a1, a2, ulo), _radius(a1, a2, uhi)
+            if span1 >= 360.0:
+                rows += [(x, y, r, 0.0, 360.0) for r in (rlo, rhi) if r > 0.0]
+                continue
+            for u, r in ((ulo, rlo), (uhi, rhi)):
+                if r > 0.0:
+                    rows.append((x, y, r, (h + q1lo + sign * _beta(a1, a2, u)) % 360.0, span1))
+            for q1 in (q1hi, q1lo):
+                ex, ey = x + a1 * _cosd(h + q1), y + a1 * _sind(h + q1)
+                first = ulo if sign > 0 else -uhi
+                rows.append((ex, ey, a2, (h + q1 + first) % 360.0, uhi - ulo))
+    table = np.array(rows, dtype=float).reshape(-1, 5)
+    return RegionArcs(table[:, :2], table[:, 2], table[:, 3], table[:, 4])
