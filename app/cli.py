@@ -14,6 +14,7 @@ with one line, so adding one touches nothing else here.
 from __future__ import annotations
 
 import argparse
+import importlib
 import json
 import os
 import sys
@@ -53,7 +54,8 @@ def _check_parser() -> argparse.ArgumentParser:
 def _window_parser() -> argparse.ArgumentParser:
     p = _Parser(
         prog="elbowroom",
-        description="Open the Elbow Room window. Subcommands: 'check CELL [--json]'.",
+        description="Open the Elbow Room window. Subcommands: 'check CELL [--json]', "
+        "'place CELL ...', 'compare CELL [--json]'.",
     )
     p.add_argument("cell", type=Path, nargs="?", help="a *.cell.json file (default: bundled cell)")
     p.add_argument("--screenshot", type=Path, metavar="FILE.png", help="save the window and exit")
@@ -147,6 +149,8 @@ def _check_command(args: list[str]) -> int:
 #: Subcommand name -> function(remaining arguments) -> exit status.
 SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
     "check": _check_command,
+    "place": lambda args: importlib.import_module("app.place_cli").place_command(args),
+    "compare": lambda args: importlib.import_module("app.place_cli").compare_command(args),
 }
 
 

@@ -213,8 +213,14 @@ class ArmBodies:
         return out
 
 
-def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+def frames(
+    arm: Arm, q_deg: ArrayLike, base_xy: ArrayLike | None = None
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Origins and angles of the four body frames at poses ``q_deg`` (shape ``S + (2,)``).
+
+    ``base_xy`` (shape broadcastable to ``S + (2,)``), when given, puts the base of each pose
+    there instead of at the arm's own base (the heading stays the arm's): placement maps pose
+    one arm at many base positions at once.
 
     Returns
     -------
@@ -234,7 +240,9 @@ def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.
     h = math.radians(arm.heading_deg)
     t1 = h + np.radians(q[..., 0])
     t12 = t1 + np.radians(q[..., 1])
-    base = np.broadcast_to(np.array([arm.x, arm.y]), q.shape)
+    base = np.broadcast_to(
+        np.array([arm.x, arm.y]) if base_xy is None else np.asarray(base_xy, dtype=float), q.shape
+    )
     elbow = base + arm.a1 * np.stack([np.cos(t1), np.sin(t1)], axis=-1)
     tool = elbow + arm.a2 * np.stack([np.cos(t12), np.sin(t12)], axis=-1)
     origin = np.stack([base, base, elbow, tool], axis=-2)

@@ -41,6 +41,7 @@ from shapely.validation import explain_validity
 from kinematics.atomic import write_atomic
 from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
+from kinematics.layout_keys import validate_layout_keys
 
 __all__ = [
     "FORMAT",
@@ -811,6 +812,7 @@ def parse_cell(text: str, source: str = "<text>") -> Cell:
         # Body, height and margin keys are read by the clearance engine; check them here
         # so a malformed one is a file problem, not a failure later.
         validate_cell_bodies(cell)
+        validate_layout_keys(cell)  # placement and variant keys (kinematics/layout_keys.py)
     except BodyDataError as exc:
         raise CellFileError(f"{source}: {exc}") from None
     return cell

@@ -126,6 +126,8 @@ def check_report(
     >>> rep["targets"][0]["feasible"], rep["targets"][0]["reason"]
     (False, 'beyond outer reach by 28.8 mm')
     """
+    from .placement import arm_tolerances  # compiled kernels load on first use only
+
     ev_all = evaluation if evaluation is not None else evaluate_cell(cell)
     tol = REGION_TOL_MM / cell.mm_per_unit
     arms = []
@@ -140,6 +142,8 @@ def check_report(
                 "reachable_area": _num(reg.reachable.area, 3),
                 "both_elbows_area": _num(reg.both.area, 3),
                 "link_radii_assumed": arm.link_radii is None,
+                # How far the base may miss its spot / turn, every target staying feasible.
+                **arm_tolerances(cell, arm.id),
             }
         )
     # One lookup table: locating each target by search would make big cells quadratic.
