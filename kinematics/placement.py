@@ -1141,9 +1141,12 @@ def best_position(
 ) -> BestPosition:
     """The highest-scoring base position, refined below the grid pitch.
 
-    The best few grid points are refined on two finer local grids (a quarter and a
-    sixteenth of the pitch); the result scores at least as well as every grid point
-    (ties go to the point nearest the current base). With ``heading_search`` the heading is
+    Among grid points sharing the top score, the one deepest inside that plateau is taken
+    (farthest from every lower-scoring grid point, so the base has room around it; ties
+    go to the point nearest the current base). The best few grid points are then refined
+    on two finer local grids (a quarter and a sixteenth of the pitch), and a refined point
+    replaces it only when it scores strictly higher; so the result scores at least as well
+    as every grid point. With ``heading_search`` the heading is
     searched too: a sweep every 10 degrees on a coarse grid, then refinement in steps of 1,
     0.1 and 0.01 degrees around the best, then the map and refinement at the best heading;
     the better of that and the current heading's result is returned.
@@ -1179,6 +1182,22 @@ def best_position(
     return other if other.score > here.score + 1e-12 else here
 
 
+def _plateau_centre(smap: ScoreMap, near: tuple[float, float]) -> tuple[float, float, float]:
+    """The top-scoring grid point farthest from every lower-scoring one (the middle of a
+    plateau of equal top scores; ties go to the point nearest ``near``)."""
+    from scipy.ndimage import distance_transform_edt
+
+    s = np.where(np.isfinite(smap.score), smap.score, -np.inf)
+    top = float(s.max())
+    plateau = s >= top - 1e-9
+    depth = distance_transform_edt(np.pad(plateau, 1))[1:-1, 1:-1]
+    gx, gy = np.meshgrid(smap.x, smap.y)
+    best = np.flatnonzero(plateau.ravel() & (depth.ravel() >= depth.max() - 1e-9))
+    d = np.hypot(gx.ravel()[best] - near[0], gy.ravel()[best] - near[1])
+    k = int(best[np.argmin(d)])
+    return float(gx.ravel()[k]), float(gy.ravel()[k]), float(s.ravel()[k])
+
+
 def _best_at(problem: PlacementProblem, smap: ScoreMap) -> BestPosition:
     h = smap.heading_deg
     zone = shapely.Polygon(smap.zone)
@@ -1188,7 +1207,11 @@ def _best_at(problem: PlacementProblem, smap: ScoreMap) -> BestPosition:
     if not ok.any():
         x, y, s = near[0], near[1], float("nan")
     else:
-        x, y, s = _refine(problem, zone, gx[ok], gy[ok], smap.score[ok], smap.pitch, h, near)
+        x, y, s = _plateau_centre(smap, near)
+        # Finer local grids around the best grid points; taken only when strictly better.
+        rx, ry, rs = _refine(problem, zone, gx[ok], gy[ok], smap.score[ok], smap.pitch, h, near)
+        if rs > s + 1e-9:
+            x, y, s = rx, ry, rs
     ev = evaluate_at(problem, x, y, h)
     return BestPosition(
         x, y, h, s, int(ev.feasible.sum()) if len(problem.targets) else 0, len(problem.targets),

@@ -256,7 +256,12 @@ def _metric(row: VariantRow, key: str) -> float | None:
 
 
 def _best_layouts(rows: list[VariantRow], arm: str, key: str) -> list[str]:
-    vals = [(r.layout, _metric(r, key)) for r in rows if r.arm == arm]
+    mine = [r for r in rows if r.arm == arm]
+    if key != "feasible_targets" and mine:
+        # Margins and tolerances only compare between layouts reaching as many targets.
+        most = max(r.feasible_targets for r in mine)
+        mine = [r for r in mine if r.feasible_targets == most]
+    vals = [(r.layout, _metric(r, key)) for r in mine]
     known = [(n, v) for n, v in vals if v is not None]
     if len(known) < 2:
         return []
@@ -274,7 +279,8 @@ def comparison_report(cell: Cell, rows: list[VariantRow] | None = None) -> dict[
     dict
         ``{"cell", "units", "layouts": [names], "rows": [{"layout", "arm", <metrics>}],
         "better": {arm: {metric: [layout names]}}, "caution"}``; a metric's list is empty
-        when every layout ties or fewer than two have a value.
+        when every layout ties or fewer than two have a value; metrics other than the
+        feasible count are compared only between the layouts with the most feasible targets.
     """
     from .caution import CAUTION_SHORT
 
