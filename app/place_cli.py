@@ -95,9 +95,11 @@ def _emit(text: str, prog: str) -> bool:
         sys.stdout.write(text)
         sys.stdout.flush()
     except OSError as exc:
-        reason = "the reading end of the pipe was closed" if isinstance(
-            exc, BrokenPipeError
-        ) else (exc.strerror or type(exc).__name__)
+        reason = (
+            "the reading end of the pipe was closed"
+            if isinstance(exc, BrokenPipeError)
+            else (exc.strerror or type(exc).__name__)
+        )
         sys.stderr.write(f"{prog}: could not write the report ({reason})\n")
         return False
     return True
@@ -153,7 +155,9 @@ def _place_text(rep: dict[str, Any], cell_name: str, units: str) -> str:
     widths = [max(len(r[c]) for r in rows) for c in range(len(rows[0]))]
     for k, r in enumerate(rows):
         lines.append(
-            "  ".join(v.ljust(w) if c == 0 else v.rjust(w) for c, (v, w) in enumerate(zip(r, widths)))
+            "  ".join(
+                v.ljust(w) if c == 0 else v.rjust(w) for c, (v, w) in enumerate(zip(r, widths))
+            )
         )
         if k == 0:
             lines.append("-" * len(lines[-1]))

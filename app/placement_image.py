@@ -170,8 +170,10 @@ def map_png(
         p.setPen(pen)
         p.setBrush(Qt.BrushStyle.NoBrush)
         p.drawEllipse(c, tolerance * scale, tolerance * scale)
-        p.drawText(c + QPointF(tolerance * scale * math.cos(0.6) + 4, tolerance * scale * 0.6),
-                   f"tolerance {tolerance:.1f} {units}")
+        p.drawText(
+            c + QPointF(tolerance * scale * math.cos(0.6) + 4, tolerance * scale * 0.6),
+            f"tolerance {tolerance:.1f} {units}",
+        )
     # Best spot: a cross in a white halo.
     b = to_px(*best)
     for colour, w in (("white", 6.0), ("#000000", 2.5)):
@@ -216,8 +218,11 @@ def map_png(
     small = QFont()
     small.setPixelSize(11)
     p.setFont(small)
-    p.drawText(QRectF(margin, margin + height + 32, W - 2 * margin, 28),
-               Qt.TextFlag.TextWordWrap, f"CAUTION: {CAUTION_SHORT}")
+    p.drawText(
+        QRectF(margin, margin + height + 32, W - 2 * margin, 28),
+        Qt.TextFlag.TextWordWrap,
+        f"CAUTION: {CAUTION_SHORT}",
+    )
     p.end()
     data = QByteArray()
     buf = QBuffer(data)

@@ -186,6 +186,7 @@ def main(argv: list[str] | None = None) -> int:
     agree = int(np.sum(naive == engine))
 
     pl.placement_region(problem)  # warm the region's cache-free parts (imports)
+
     def region():
         fresh = pl.placement_problem(cell)
         return pl.placement_region(fresh)

@@ -207,7 +207,9 @@ def _variant_arm(v: Any, path: str, arm: Arm, arm_path: str) -> VariantArm:
         raise _fail(path, 'must be an object with at least "base"', v)
     unknown = [k for k in v if k not in VARIANT_ARM_KEYS]
     if unknown:
-        raise _fail(f"{path}", f"unknown key {unknown[0]!r} (known: {', '.join(VARIANT_ARM_KEYS)})", v)
+        raise _fail(
+            f"{path}", f"unknown key {unknown[0]!r} (known: {', '.join(VARIANT_ARM_KEYS)})", v
+        )
     base = v.get("base")
     bp = f"{path}.base"
     if not isinstance(base, Mapping):

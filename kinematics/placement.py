@@ -52,8 +52,18 @@ import shapely
 from numpy.typing import NDArray
 from shapely.geometry import MultiPolygon, Polygon
 
-from .bodies import BASE, LINK1, LINK2, TOOL, ArmBodies, arm_bodies, clearance_margin
-from .bodies import link_blocking, tool_blocking, work_heights
+from .bodies import (
+    BASE,
+    LINK1,
+    LINK2,
+    TOOL,
+    ArmBodies,
+    arm_bodies,
+    clearance_margin,
+    link_blocking,
+    tool_blocking,
+    work_heights,
+)
 from .cell import Arm, Cell, Target
 from .clearance import FixtureSet, arm_clearance
 from .evaluate import ArmEvaluation, choose_configuration, evaluate_arm
@@ -338,11 +348,11 @@ def _target_sets(problem: PlacementProblem, h: float) -> list[Region]:
     key = ("sets", h)
     if key not in problem.cache:
         a = problem.arm
-        reg = reachable_region(a.a1, a.a2, a.q1_limits, a.q2_limits, a.elbow, 0.0, 0.0, h, problem.tol)
+        reg = reachable_region(
+            a.a1, a.a2, a.q1_limits, a.q2_limits, a.elbow, 0.0, 0.0, h, problem.tol
+        )
         flipped = shapely.transform(reg, lambda c: -c)
-        problem.cache[key] = [
-            shapely.transform(flipped, lambda c, t=t: c + t) for t in problem.xy
-        ]
+        problem.cache[key] = [shapely.transform(flipped, lambda c, t=t: c + t) for t in problem.xy]
     return problem.cache[key]
 
 
@@ -465,9 +475,7 @@ def placement_region(
     relaxed = geom
     if empty and blocking:
         blockers, relaxed = _blocking_targets(problem, h, sets, forb)
-    res = PlacementRegion(
-        problem.arm.id, h, geom, float(geom.area), empty, True, blockers, relaxed
-    )
+    res = PlacementRegion(problem.arm.id, h, geom, float(geom.area), empty, True, blockers, relaxed)
     problem.cache[key] = res
     return res
 
@@ -730,7 +738,9 @@ def _pairs_engine(
         fl[k : k + n, :, 1] = ik.manipulability[..., 0] / (a.a1 * a.a2)
         fl[k : k + n, :, 2:4] = ik.limit_margin_deg
         keep = ok | (every & ik.reachable[..., None])
-        fl[k : k + n, :, 4:6] = np.where(keep, np.where(res.collides, np.minimum(c, 0.0), c), np.nan)
+        fl[k : k + n, :, 4:6] = np.where(
+            keep, np.where(res.collides, np.minimum(c, 0.0), c), np.nan
+        )
         chosen[k : k + n] = ch.reshape(n, N)
     return flags, fl, chosen
 
@@ -1271,7 +1281,9 @@ def move_base(
     """
     arms = tuple(
         replace(
-            a, x=float(x), y=float(y),
+            a,
+            x=float(x),
+            y=float(y),
             heading_deg=a.heading_deg if heading_deg is None else float(heading_deg),
         )  # fmt: skip
         if a.id == arm_id
@@ -1711,8 +1723,8 @@ def placement_report(
     region = placement_region(problem)
     smap = score_map(problem, pitch, region=region)
     best = best_position(problem, smap, heading_search=heading_search)
-    best_region = region if best.heading_deg == a.heading_deg else placement_region(
-        problem, best.heading_deg
+    best_region = (
+        region if best.heading_deg == a.heading_deg else placement_region(problem, best.heading_deg)
     )
     current = _pose_report(problem, a.x, a.y, a.heading_deg, region)
     b = _pose_report(problem, best.x, best.y, best.heading_deg, best_region)

@@ -194,8 +194,13 @@ def _finite(v: float) -> float | None:
 
 
 def _layout_rows(cell: Cell, name: str) -> list[VariantRow]:
-    from .placement import heading_tolerance, placement_problem, placement_region
-    from .placement import placement_tolerance, evaluate_at
+    from .placement import (
+        evaluate_at,
+        heading_tolerance,
+        placement_problem,
+        placement_region,
+        placement_tolerance,
+    )
 
     rows = []
     for a in cell.arms:
@@ -364,8 +369,10 @@ def format_comparison(report: dict[str, Any]) -> str:
         widths = [max(len(r[c]) for r in table) for c in range(len(head))]
         for i, r in enumerate(table):
             lines.append(
-                "  " + "  ".join(v.ljust(w) if c == 0 else v.rjust(w) for c, (v, w) in
-                                 enumerate(zip(r, widths))).rstrip()
+                "  "
+                + "  ".join(
+                    v.ljust(w) if c == 0 else v.rjust(w) for c, (v, w) in enumerate(zip(r, widths))
+                ).rstrip()
             )
             if i == 0:
                 lines.append("  " + "-" * (sum(widths) + 2 * (len(widths) - 1)))

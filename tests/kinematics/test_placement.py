@@ -42,16 +42,30 @@ def lens(r: float, R: float, d: float) -> float:
 
 def one_arm_cell(targets, fixtures=(), **arm_kw) -> Cell:
     arm = Arm(
-        "a", "A", arm_kw.pop("x", 0.0), arm_kw.pop("y", 0.0), arm_kw.pop("heading", 0.0),
-        arm_kw.pop("a1", 400.0), arm_kw.pop("a2", 250.0), arm_kw.pop("q1", FULL),
-        arm_kw.pop("q2", FULL), **arm_kw,
-    )  # fmt: skip
-    ts = tuple(Target(f"t{i}", f"T{i}", float(x), float(y), "a") for i, (x, y) in enumerate(targets))
+        "a",
+        "A",
+        arm_kw.pop("x", 0.0),
+        arm_kw.pop("y", 0.0),
+        arm_kw.pop("heading", 0.0),
+        arm_kw.pop("a1", 400.0),
+        arm_kw.pop("a2", 250.0),
+        arm_kw.pop("q1", FULL),
+        arm_kw.pop("q2", FULL),
+        **arm_kw,
+    )
+    ts = tuple(
+        Target(f"t{i}", f"T{i}", float(x), float(y), "a") for i, (x, y) in enumerate(targets)
+    )
     return Cell("c", arms=(arm,), fixtures=tuple(fixtures), targets=ts)
 
 
 def square(cx, cy, half, height=None, kind="column", fid="f"):
-    pts = ((cx - half, cy - half), (cx + half, cy - half), (cx + half, cy + half), (cx - half, cy + half))
+    pts = (
+        (cx - half, cy - half),
+        (cx + half, cy - half),
+        (cx + half, cy + half),
+        (cx - half, cy + half),
+    )
     return Fixture(fid, fid, kind, pts, height)
 
 
@@ -95,8 +109,7 @@ def test_limited_ranges_against_a_brute_force_grid_of_bases():
     # setting); the area of the grid cells that reach every target must match the exact
     # region within the grid's resolution (perimeter x pitch bounds the boundary cells).
     targets = [(300.0, 200.0), (-150.0, 350.0), (100.0, -200.0)]
-    cell = one_arm_cell(targets, q1=(-100.0, 130.0), q2=(-150.0, 120.0), heading=30.0,
-                        elbow="any")  # fmt: skip
+    cell = one_arm_cell(targets, q1=(-100.0, 130.0), q2=(-150.0, 120.0), heading=30.0, elbow="any")
     p = pl.placement_problem(cell)
     reg = pl.placement_region(p)
     x0, y0, x1, y1 = reg.geometry.bounds
@@ -105,8 +118,18 @@ def test_limited_ranges_against_a_brute_force_grid_of_bases():
     ys = np.arange(y0 - 10, y1 + 10, pitch)
     gx, gy = (a.ravel() for a in np.meshgrid(xs, ys))
     a = p.arm
-    ik = solve(a.a1, a.a2, p.xy[None, :, 0], p.xy[None, :, 1], gx[:, None], gy[:, None],
-               a.heading_deg, a.q1_limits, a.q2_limits, a.elbow)  # fmt: skip
+    ik = solve(
+        a.a1,
+        a.a2,
+        p.xy[None, :, 0],
+        p.xy[None, :, 1],
+        gx[:, None],
+        gy[:, None],
+        a.heading_deg,
+        a.q1_limits,
+        a.q2_limits,
+        a.elbow,
+    )
     brute = ik.feasible.all(axis=1).sum() * pitch * pitch
     assert reg.area > 0
     assert abs(brute - reg.area) <= reg.geometry.length * pitch
@@ -129,16 +152,22 @@ def test_footprint_positions_are_the_minkowski_sum_as_the_engine_judges_them():
     # region's forbidden set must match the engine's own footprint clearance at bases.
     fp = [[-60, -40], [80, -40], [80, 40], [0, 90], [-60, 40]]  # not convex
     col = Fixture("col", "Column", "column", ((300, -50), (360, -30), (340, 40), (290, 20)), 3000)
-    cell = one_arm_cell([(200.0, 100.0)], [col], heading=35.0, link_radii=(20.0, 15.0),
-                        extra={"base_footprint": fp})  # fmt: skip
+    cell = one_arm_cell(
+        [(200.0, 100.0)], [col], heading=35.0, link_radii=(20.0, 15.0), extra={"base_footprint": fp}
+    )
     p = pl.placement_problem(cell)
     forbidden = pl._forbidden(p, 35.0)  # noqa: SLF001 - the set under test
     rng = np.random.default_rng(7)
     bx, by = rng.uniform(100, 550, 3000), rng.uniform(-250, 200, 3000)
     body = [b for b in p.bodies.bodies if b.name == "base"]
     only_base = ArmBodies(p.arm, tuple(body), p.bodies.link_radii, False)
-    res = arm_clearance(p.arm, cell.fixtures, np.zeros((3000, 2)), bodies=only_base,
-                        base_xy=np.stack([bx, by], axis=1))  # fmt: skip
+    res = arm_clearance(
+        p.arm,
+        cell.fixtures,
+        np.zeros((3000, 2)),
+        bodies=only_base,
+        base_xy=np.stack([bx, by], axis=1),
+    )
     inside = shapely.contains_xy(forbidden, bx, by)
     sure = np.abs(res.clearance) > 1e-6
     assert inside.any() and (~inside).any()
@@ -192,14 +221,29 @@ def cluttered_cell(**arm_kw) -> Cell:
     fixtures = [
         square(430.0, 240.0, 35.0, 3000.0, fid="col1"),
         square(-300.0, -360.0, 45.0, 700.0, "fixture", "bin"),
-        Fixture("guard", "Guard", "guard", ((-650, 520), (650, 520), (650, 545), (-650, 545)), 1800),
+        Fixture(
+            "guard", "Guard", "guard", ((-650, 520), (650, 520), (650, 545), (-650, 545)), 1800
+        ),
         square(-120.0, 420.0, 60.0, 400.0, "table", "low_table"),
-        Fixture("ko", "Keep out", "keep-out", ((150, -520), (330, -520), (300, -400), (170, -420)), 0),
-        Fixture("ell", "L bench", "fixture",
-                ((-520, 60), (-380, 60), (-380, 120), (-450, 120), (-450, 230), (-520, 230)), 900),
-    ]  # fmt: skip
-    kw = dict(q1=(-160.0, 160.0), q2=(-145.0, 145.0), link_radii=(30.0, 20.0),
-              link_underside_height=600.0, heading=90.0, extra={"tool_body": {"radius": 25.0}})  # fmt: skip
+        Fixture(
+            "ko", "Keep out", "keep-out", ((150, -520), (330, -520), (300, -400), (170, -420)), 0
+        ),
+        Fixture(
+            "ell",
+            "L bench",
+            "fixture",
+            ((-520, 60), (-380, 60), (-380, 120), (-450, 120), (-450, 230), (-520, 230)),
+            900,
+        ),
+    ]
+    kw = dict(
+        q1=(-160.0, 160.0),
+        q2=(-145.0, 145.0),
+        link_radii=(30.0, 20.0),
+        link_underside_height=600.0,
+        heading=90.0,
+        extra={"tool_body": {"radius": 25.0}},
+    )
     kw.update(arm_kw)
     return one_arm_cell(targets, fixtures, **kw)
 
@@ -253,7 +297,9 @@ def test_map_counts_what_check_would_report_at_each_base():
 
 def test_engine_path_for_outline_bodies_matches_the_evaluation():
     # A tool outline is not in the kernel: the map goes through the engine.
-    cell = cluttered_cell(extra={"tool_body": {"outline": [[-20, -15], [30, -15], [30, 15], [-20, 15]]}})
+    cell = cluttered_cell(
+        extra={"tool_body": {"outline": [[-20, -15], [30, -15], [30, 15], [-20, 15]]}}
+    )
     p = pl.placement_problem(cell)
     assert not p.compiled
     m = pl.score_map(p, pitch=60.0)
@@ -306,8 +352,12 @@ def test_best_position_is_at_least_as_good_as_every_grid_point():
 
 def test_heading_search_finds_a_heading_no_worse():
     # q1 limits of only +-60 deg: the heading decides which targets are reachable.
-    cell = one_arm_cell([(500.0, 100.0), (450.0, -150.0), (-300.0, 420.0)], q1=(-60, 60),
-                        q2=(-145, 145), heading=-90.0)  # fmt: skip
+    cell = one_arm_cell(
+        [(500.0, 100.0), (450.0, -150.0), (-300.0, 420.0)],
+        q1=(-60, 60),
+        q2=(-145, 145),
+        heading=-90.0,
+    )
     p = pl.placement_problem(cell)
     m = pl.score_map(p, pitch=20.0)
     here = pl.best_position(p, m)
@@ -328,9 +378,12 @@ def test_tolerance_disc(kind):
         cell = one_arm_cell([(300.0, 0.0), (0.0, 380.0)], q2=(-150, 150), link_radii=(20, 15))
     else:
         cell = one_arm_cell(
-            [(300.0, 0.0), (0.0, 380.0)], [square(180.0, 250.0, 25.0, 3000.0)],
-            q2=(-150, 150), link_radii=(20, 15), elbow="negative",
-        )  # fmt: skip
+            [(300.0, 0.0), (0.0, 380.0)],
+            [square(180.0, 250.0, 25.0, 3000.0)],
+            q2=(-150, 150),
+            link_radii=(20, 15),
+            elbow="negative",
+        )
     p = pl.placement_problem(cell)
     tol = pl.placement_tolerance(p)
     assert tol.radius is not None and tol.radius > 50 * tol.precision
@@ -374,8 +427,14 @@ def test_heading_tolerance_with_a_footprint_against_turning_the_arm():
     # A long footprint beside a column: the footprint's first touch ends the range; the
     # reported range is within 0.01 degree of where the engine's evaluation flips.
     fp = [[-40, -20], [200, -20], [200, 20], [-40, 20]]
-    cell = one_arm_cell([(0.0, 400.0)], [square(150.0, 140.0, 20.0, 3000.0)], heading=0.0,
-                        q2=(-150, 150), link_radii=(15, 10), extra={"base_footprint": fp})  # fmt: skip
+    cell = one_arm_cell(
+        [(0.0, 400.0)],
+        [square(150.0, 140.0, 20.0, 3000.0)],
+        heading=0.0,
+        q2=(-150, 150),
+        link_radii=(15, 10),
+        extra={"base_footprint": fp},
+    )
     p = pl.placement_problem(cell)
     minus, plus = pl.heading_tolerance(p)
     assert plus < 60.0

@@ -25,12 +25,23 @@ DEMO = ROOT / "sample_cells" / "press_tending_variants.cell.json"
 
 def doc(**top):
     d = {
-        "format": "elbowroom-cell", "version": 1, "name": "v", "units": "mm",
-        "arms": [{"id": "a", "name": "A", "base": {"x": 0, "y": 0, "heading_deg": 90},
-                  "links": [400, 250], "joint_limits_deg": [[-150, 150], [-145, 145]],
-                  "elbow": "any"}],
-        "fixtures": [], "targets": [{"id": "t", "name": "T", "x": 300, "y": 0, "arm": "a"}],
-    }  # fmt: skip
+        "format": "elbowroom-cell",
+        "version": 1,
+        "name": "v",
+        "units": "mm",
+        "arms": [
+            {
+                "id": "a",
+                "name": "A",
+                "base": {"x": 0, "y": 0, "heading_deg": 90},
+                "links": [400, 250],
+                "joint_limits_deg": [[-150, 150], [-145, 145]],
+                "elbow": "any",
+            }
+        ],
+        "fixtures": [],
+        "targets": [{"id": "t", "name": "T", "x": 300, "y": 0, "arm": "a"}],
+    }
     d.update(top)
     return d
 
@@ -45,28 +56,75 @@ def problem_of(d) -> str:
 @pytest.mark.parametrize(
     "key, value, expected",
     [
-        ("placement_weights", {"clearance": -1}, "v.cell.json: placement_weights.clearance: must not be negative, got -1"),
-        ("placement_weights", {"speed": 1}, "v.cell.json: placement_weights.speed: is not a weight"),
+        (
+            "placement_weights",
+            {"clearance": -1},
+            "v.cell.json: placement_weights.clearance: must not be negative, got -1",
+        ),
+        (
+            "placement_weights",
+            {"speed": 1},
+            "v.cell.json: placement_weights.speed: is not a weight",
+        ),
         ("placement_weights", [1, 2], "v.cell.json: placement_weights: must be an object"),
         ("variants", {"name": "x"}, "v.cell.json: variants: must be a list"),
-        ("variants", [{"name": "", "arms": {}}], "v.cell.json: variants[0].name: must be a non-empty string"),
-        ("variants", [{"name": "x", "arms": {"b": {"base": {"x": 0, "y": 0, "heading_deg": 0}}}}],
-         "v.cell.json: variants[0].arms.b: names no arm in this cell"),
-        ("variants", [{"name": "x", "arms": {"a": {"base": {"x": 0, "y": 0}}}}],
-         "v.cell.json: variants[0].arms.a.base.heading_deg: is required but missing"),
-        ("variants", [{"name": "x", "arms": {"a": {"base": {"x": 0, "y": 0, "heading_deg": 0},
-                                                   "links": [400, -1]}}}],
-         "v.cell.json: variants[0].arms.a.links[1]: must be greater than 0, got -1"),
-        ("variants", [{"name": "x", "arms": {"a": {"base": {"x": 0, "y": 0, "heading_deg": 0},
-                                                   "joint_limits_deg": [[10, -10], [0, 1]]}}}],
-         "v.cell.json: variants[0].arms.a.joint_limits_deg[0]: must have min < max"),
-        ("variants", [{"name": "x", "arms": {}}, {"name": "x", "arms": {}}],
-         "v.cell.json: variants[1].name: duplicate name, also used by variants[0]"),
-        ("variants", [{"name": "x", "arms": {"a": {"base": {"x": 0, "y": 0, "heading_deg": 0},
-                                                   "speed": 3}}}],
-         "v.cell.json: variants[0].arms.a: unknown key 'speed'"),
+        (
+            "variants",
+            [{"name": "", "arms": {}}],
+            "v.cell.json: variants[0].name: must be a non-empty string",
+        ),
+        (
+            "variants",
+            [{"name": "x", "arms": {"b": {"base": {"x": 0, "y": 0, "heading_deg": 0}}}}],
+            "v.cell.json: variants[0].arms.b: names no arm in this cell",
+        ),
+        (
+            "variants",
+            [{"name": "x", "arms": {"a": {"base": {"x": 0, "y": 0}}}}],
+            "v.cell.json: variants[0].arms.a.base.heading_deg: is required but missing",
+        ),
+        (
+            "variants",
+            [
+                {
+                    "name": "x",
+                    "arms": {"a": {"base": {"x": 0, "y": 0, "heading_deg": 0}, "links": [400, -1]}},
+                }
+            ],
+            "v.cell.json: variants[0].arms.a.links[1]: must be greater than 0, got -1",
+        ),
+        (
+            "variants",
+            [
+                {
+                    "name": "x",
+                    "arms": {
+                        "a": {
+                            "base": {"x": 0, "y": 0, "heading_deg": 0},
+                            "joint_limits_deg": [[10, -10], [0, 1]],
+                        }
+                    },
+                }
+            ],
+            "v.cell.json: variants[0].arms.a.joint_limits_deg[0]: must have min < max",
+        ),
+        (
+            "variants",
+            [{"name": "x", "arms": {}}, {"name": "x", "arms": {}}],
+            "v.cell.json: variants[1].name: duplicate name, also used by variants[0]",
+        ),
+        (
+            "variants",
+            [
+                {
+                    "name": "x",
+                    "arms": {"a": {"base": {"x": 0, "y": 0, "heading_deg": 0}, "speed": 3}},
+                }
+            ],
+            "v.cell.json: variants[0].arms.a: unknown key 'speed'",
+        ),
     ],
-)  # fmt: skip
+)
 def test_bad_keys_give_one_line_naming_path_and_value(key, value, expected):
     assert problem_of(doc(**{key: value})).startswith(expected)
 
@@ -104,8 +162,10 @@ def test_create_apply_rename_delete_are_pure_and_save():
     assert (back.arms[0].a1, back.arms[0].x) == (350.0, 0.0)
     renamed = rename_variant(made, "Kept as is", "Original")
     assert [v.name for v in variants(renamed)][-1] == "Original"
-    gone = delete_variant(delete_variant(delete_variant(renamed, "Original"),
-                                         "Base toward the press"), "Longer arm, base as now")
+    gone = delete_variant(
+        delete_variant(delete_variant(renamed, "Original"), "Base toward the press"),
+        "Longer arm, base as now",
+    )
     assert "variants" not in gone.extra
     with pytest.raises(KeyError):
         apply_variant(gone, "Original")
