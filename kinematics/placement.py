@@ -682,7 +682,7 @@ def pair_table(
     --------
     >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-150, 150))
     >>> cell = Cell("c", arms=(arm,), targets=(Target("t", "T", 300, 0, "a"),))
-    >>> flags, values, chosen = pair_table(placement_problem(cell), [0.0, 900.0], [0.0, 0.0])
+    >>> flags, values, chosen = pair_table(placement_problem(cell), [0.0, 1000.0], [0.0, 0.0])
     >>> chosen[:, 0].tolist(), flags[:, 0, 0].tolist()
     ([0, -1], [True, False])
     """

@@ -139,6 +139,53 @@ def _capsule(ox, oy, ux, uy, length, r, cf, ncf, cdir, ccos, V, off, C, R, best)
 
 
 @njit(cache=True, inline="always")
+def _capsule_sel(ox, oy, ux, uy, length, r, sel, nsel, cf, cdir, ccos, V, off, C, R, best):
+    """:func:`_capsule` over the candidates ``sel[:nsel]`` (positions in cf/cdir/ccos)."""
+    bx = ox + length * ux
+    by = oy + length * uy
+    for j in range(nsel):
+        k = sel[j]
+        if ux * cdir[k, 0] + uy * cdir[k, 1] < ccos[k]:
+            continue
+        f = cf[k]
+        d = math.sqrt(_pt_seg2(C[f, 0], C[f, 1], ox, oy, bx, by)) - R[f] - r
+        if d >= best:
+            continue
+        d = math.sqrt(_seg_poly2(ox, oy, bx, by, V, off[f], off[f + 1])) - r
+        if d < best:
+            best = d
+            if best <= 0.0:
+                return best
+    return best
+
+
+# Directions from a base are sorted into this many sectors, each listing the candidate
+# fixtures whose cone reaches into it, so link 1 tests only a few cones per pose.
+_SECTORS = 64
+
+
+@njit(cache=True, inline="always")
+def _sectors(n1, cdir, ccos, cnt, lists):
+    w = 2.0 * math.pi / _SECTORS
+    for b in range(_SECTORS):
+        cnt[b] = 0
+    for k in range(n1):
+        if ccos[k] <= -1.0:
+            lo, hi = 0, _SECTORS - 1
+        else:
+            psi = math.atan2(cdir[k, 1], cdir[k, 0])
+            al = math.acos(min(1.0, ccos[k])) + 1e-9  # a hair wider than the cone
+            lo = int(math.floor((psi - al) / w))
+            hi = int(math.floor((psi + al) / w))
+            if hi - lo + 1 >= _SECTORS:
+                lo, hi = 0, _SECTORS - 1
+        for b in range(lo, hi + 1):
+            bb = b % _SECTORS
+            lists[bb, cnt[bb]] = k
+            cnt[bb] += 1
+
+
+@njit(cache=True, inline="always")
 def _cone(ox, oy, reach, grow, f, C, R, cdir, ccos, k):
     """Fill candidate slot k with fixture f's direction and cone as seen from o.
 
@@ -200,6 +247,10 @@ def _run(
         cdir = np.empty((F, 2))
         ccos = np.empty(F)
         n1 = _base_cones(x0, y0, a1, r1 + cap, C, R, lf, cf, cdir, ccos)
+        cnt = np.empty(_SECTORS, np.int64)
+        lists = np.empty((_SECTORS, max(n1, 1)), np.int64)
+        _sectors(n1, cdir, ccos, cnt, lists)
+        sw = _SECTORS / (2.0 * math.pi)
         nf = 0
         wlm = np.inf
         wrm = np.inf
@@ -258,10 +309,12 @@ def _run(
                     if r > 0.0:
                         ux = (dx * cb + sg * dy * sb) * inv
                         uy = (dy * cb - sg * dx * sb) * inv
+                        t1 = phi - sg * beta
                     else:
                         t1 = math.radians(q1 + h)
                         ux = math.cos(t1)
                         uy = math.sin(t1)
+                    sec = int(math.floor(t1 * sw)) % _SECTORS
                     c = min(cap, bc, tool_c[it])
                     lo = tptr[it]
                     hi = tptr[it + 1]
@@ -273,7 +326,10 @@ def _run(
                             tdir[lo:hi], tcos[lo:hi], V, off, C, R, c,
                         )  # fmt: skip
                     if c > 0.0:
-                        c = _capsule(x0, y0, ux, uy, a1, r1, cf, n1, cdir, ccos, V, off, C, R, c)
+                        c = _capsule_sel(
+                            x0, y0, ux, uy, a1, r1, lists[sec], cnt[sec], cf, cdir, ccos,
+                            V, off, C, R, c,
+                        )
                 if k == 0:
                     ok0, m0, c0 = ok, m, c
                 else:
