@@ -64,7 +64,7 @@ from .bodies import (
     tool_blocking,
     work_heights,
 )
-from .cell import Arm, Cell, Target
+from .cell import Arm, Cell, Fixture, Target  # noqa: F401 - Fixture for the doctests
 from .clearance import FixtureSet, arm_clearance
 from .evaluate import ArmEvaluation, choose_configuration, evaluate_arm
 from .ik import solve
@@ -105,6 +105,7 @@ __all__ = [
     "kernel_data",
     "pair_table",
     "arm_tolerances",
+    "forbidden_region",
 ]
 
 #: Worst limit margin (degrees) at which the limit term of the score is full.
@@ -407,6 +408,22 @@ def _forbidden(problem: PlacementProblem, h: float) -> Region:
         )
     problem.cache[key] = out
     return out
+
+
+def forbidden_region(problem: PlacementProblem, heading_deg: float | None = None) -> Region:
+    """Base positions where the base body (footprint, else the shoulder disc) touches a
+    fixture that blocks it: the Minkowski sums of those fixtures with the reflected body.
+
+    Examples
+    --------
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-180, 180), (-180, 180), link_radii=(20, 15))
+    >>> col = Fixture("c", "C", "column", ((0, 0), (10, 0), (10, 10), (0, 10)), 3000)
+    >>> cell = Cell("c", arms=(arm,), fixtures=(col,), targets=(Target("t", "T", 300, 0, "a"),))
+    >>> g = forbidden_region(placement_problem(cell))
+    >>> bool(shapely.contains_xy(g, 25.0, 5.0)), bool(shapely.contains_xy(g, 31.0, 5.0))
+    (True, False)
+    """
+    return _forbidden(problem, _heading(problem, heading_deg))
 
 
 def _intersect(sets: list[Region], order: NDArray[np.int64], start: Region | None) -> Region:

@@ -156,7 +156,7 @@ def test_footprint_positions_are_the_minkowski_sum_as_the_engine_judges_them():
         [(200.0, 100.0)], [col], heading=35.0, link_radii=(20.0, 15.0), extra={"base_footprint": fp}
     )
     p = pl.placement_problem(cell)
-    forbidden = pl._forbidden(p, 35.0)  # noqa: SLF001 - the set under test
+    forbidden = pl.forbidden_region(p)
     rng = np.random.default_rng(7)
     bx, by = rng.uniform(100, 550, 3000), rng.uniform(-250, 200, 3000)
     body = [b for b in p.bodies.bodies if b.name == "base"]
