@@ -1653,8 +1653,12 @@ def live_state(
     heading_deg: float | None = None,
     *,
     region: PlacementRegion | None = None,
+    with_heading: bool = True,
 ) -> LiveState:
     """The tolerance bounds and the "all targets feasible" state at a base, for a drag step.
+
+    ``with_heading=False`` skips the heading tolerance (None then), the dearer part when the
+    arm has a base footprint.
 
     Costs one engine evaluation of the arm's targets, one point-to-outline distance and
     one kernel pass over the targets; the full :func:`placement_tolerance` belongs in a
@@ -1684,7 +1688,7 @@ def live_state(
         flags, fl, _ = pair_table(problem, np.array([x]), np.array([y]), h, cap=cap)
         r = np.hypot(problem.xy[:, 0] - x, problem.xy[:, 1] - y)[None, :]
         low = float(min(d, _safe_steps(problem, r, flags, fl, np.array([[d]])).min()))
-    ht = heading_tolerance(problem, x, y, h) if nf == n else None
+    ht = heading_tolerance(problem, x, y, h) if nf == n and with_heading else None
     return LiveState(nf == n, nf, n, d, low, ht)
 
 
