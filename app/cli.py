@@ -16,6 +16,7 @@ with one line, so adding one touches nothing else here.
 from __future__ import annotations
 
 import argparse
+import importlib
 import json
 import os
 import sys
@@ -67,7 +68,8 @@ def _window_parser() -> argparse.ArgumentParser:
     p = _Parser(
         prog="elbowroom",
         description="Open the Elbow Room window. Subcommands: 'check CELL [--json]', "
-        "'export CELL ...', 'import-dxf CELL DXF ...' (each with --help).",
+        "'export CELL ...', 'import-dxf CELL DXF ...', 'place CELL ...', "
+        "'compare CELL [--json]' (each with --help).",
     )
     p.add_argument("cell", type=Path, nargs="?", help="a *.cell.json file (default: bundled cell)")
     p.add_argument("--screenshot", type=Path, metavar="FILE.png", help="save the window and exit")
@@ -170,6 +172,8 @@ SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
     "check": _check_command,
     "export": export_command,
     "import-dxf": import_dxf_command,
+    "place": lambda args: importlib.import_module("app.place_cli").place_command(args),
+    "compare": lambda args: importlib.import_module("app.place_cli").compare_command(args),
 }
 
 

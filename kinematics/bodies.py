@@ -324,8 +324,14 @@ class ArmBodies:
         return out
 
 
-def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+def frames(
+    arm: Arm, q_deg: ArrayLike, base_xy: ArrayLike | None = None
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Origins and angles of the four body frames at poses ``q_deg`` (shape ``S + (2,)``).
+
+    ``base_xy`` (shape broadcastable to ``S + (2,)``), when given, puts the base of each pose
+    there instead of at the arm's own base (the heading stays the arm's): placement maps pose
+    one arm at many base positions at once.
 
     Returns
     -------
@@ -345,7 +351,9 @@ def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.
     h = math.radians(arm.heading_deg)
     t1 = h + np.radians(q[..., 0])
     t12 = t1 + np.radians(q[..., 1])
-    base = np.broadcast_to(np.array([arm.x, arm.y]), q.shape)
+    base = np.broadcast_to(
+        np.array([arm.x, arm.y]) if base_xy is None else np.asarray(base_xy, dtype=float), q.shape
+    )
     elbow = base + arm.a1 * np.stack([np.cos(t1), np.sin(t1)], axis=-1)
     tool = elbow + arm.a2 * np.stack([np.cos(t12), np.sin(t12)], axis=-1)
     origin = np.stack([base, base, elbow, tool], axis=-2)
@@ -354,7 +362,10 @@ def frames(arm: Arm, q_deg: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.
 
 
 def pose(
-    bodies: ArmBodies, q_deg: ArrayLike, indices: Sequence[int] | None = None
+    bodies: ArmBodies,
+    q_deg: ArrayLike,
+    indices: Sequence[int] | None = None,
+    base_xy: ArrayLike | None = None,
 ) -> list[PosedBody]:
     """Place bodies of an arm at poses ``q_deg`` (shape (P, 2)), in world coordinates.
 
@@ -367,6 +378,8 @@ def pose(
         Joint angles in degrees.
     indices : sequence of int, optional
         Which bodies (default: all, in order).
+    base_xy : array_like, shape (P, 2), optional
+        The base position of each pose instead of the arm's own (placement maps).
 
     Examples
     --------
@@ -376,7 +389,9 @@ def pose(
     ([[100.0, 400.0]], [[350.0, 400.0]])
     """
     q = np.asarray(q_deg, dtype=float).reshape(-1, 2)
-    origin, angle = frames(bodies.arm, q)
+    if base_xy is not None:
+        base_xy = np.asarray(base_xy, dtype=float).reshape(-1, 2)
+    origin, angle = frames(bodies.arm, q, base_xy)
     picks = range(len(bodies.bodies)) if indices is None else indices
     out = []
     for k in picks:

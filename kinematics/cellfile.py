@@ -38,6 +38,7 @@ from typing import Any
 from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
 from kinematics.checks import choice_problem, polygon_problem
+from kinematics.layout_keys import validate_layout_keys
 from kinematics.savefile import (
     BACKUPS_KEPT,
     ReadOnlyTargetError,
@@ -808,6 +809,7 @@ def parse_cell(text: str, source: str = "<text>") -> Cell:
         # Body, height and margin keys are read by the clearance engine; check them here
         # so a malformed one is a file problem, not a failure later.
         validate_cell_bodies(cell)
+        validate_layout_keys(cell)  # placement and variant keys (kinematics/layout_keys.py)
     except BodyDataError as exc:
         raise CellFileError(f"{source}: {exc}") from None
     return cell

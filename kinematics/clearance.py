@@ -521,8 +521,10 @@ def _wrap(pb: PosedBody) -> _Posed:
     return _Posed(pb.body, pb.a, pb.b, pb.W, pb.bbox, half, pb.cos, pb.sin)
 
 
-def _pose_bodies(ab: ArmBodies, q: NDArray, indices: Sequence[int]) -> list[_Posed]:
-    return [_wrap(pb) for pb in pose(ab, q, indices)]
+def _pose_bodies(
+    ab: ArmBodies, q: NDArray, indices: Sequence[int], base_xy: NDArray | None = None
+) -> list[_Posed]:
+    return [_wrap(pb) for pb in pose(ab, q, indices, base_xy)]
 
 
 def _trim_rows(
@@ -841,6 +843,7 @@ def pose_clearance(
     q_deg: ArrayLike,
     link_mask: ArrayLike,
     tool_mask: ArrayLike | None = None,
+    base_xy: ArrayLike | None = None,
 ) -> PoseClearance:
     """Clearance of the arm's moving bodies at poses ``q_deg`` against blocking fixtures.
 
@@ -859,6 +862,9 @@ def pose_clearance(
     tool_mask : array_like of bool, shape (F,) or S + (F,), optional
         Fixtures blocking the tool (:func:`kinematics.bodies.tool_blocking`); default
         ``link_mask``.
+    base_xy : array_like, shape broadcastable to S + (2,), optional
+        Base position of each pose instead of the arm's own (placement maps); the base
+        footprint is then posed per pose like the moving bodies.
 
     Returns
     -------
@@ -880,22 +886,36 @@ def pose_clearance(
     best_b = np.full(n_all, -1, dtype=np.int64)
     valid = np.isfinite(q).all(axis=1)
     moving = list(bodies.moving_indices)
+    bxy = None
+    if base_xy is not None:
+        bxy = np.broadcast_to(np.asarray(base_xy, dtype=float), shape + (2,)).reshape(n_all, 2)
+        # Bases placed per pose (placement maps): the base moves with each pose here, so
+        # it is searched like the moving bodies.
+        moving = moving + [bodies.base_index]
 
     vidx = np.flatnonzero(valid)
     tool_any = tmask if tmask.ndim == 1 else tmask.any(axis=0)
     cand = np.flatnonzero(link_mask | tool_any)
     if len(cand) and moving and len(vidx):
         qv = q[vidx]
-        posed = _pose_bodies(bodies, qv, moving)
+        bv = None if bxy is None else bxy[vidx]
+        posed = _pose_bodies(bodies, qv, moving, bv)
         # Allowance for single-precision rounding in the broad phase (cell units).
         arm = bodies.arm
-        span = max(float(np.max(np.abs(fixtures.bbox))), abs(arm.x) + abs(arm.y))
+        far_base = abs(arm.x) + abs(arm.y) if bv is None else float(np.max(np.abs(bv).sum(1)))
+        span = max(float(np.max(np.abs(fixtures.bbox))), far_base)
         span += 2.0 * (arm.reach_max + max(b.extent for b in bodies.bodies))
         slack = 1e-5 * (span + 1.0)
         # Fixtures beyond every body's reach only matter to poses with nothing nearer:
         # search the near ones first, then only the far ones that can still win.
         reach = max(_base_extent(bodies, b) for b in posed)
-        d_base = np.hypot(*(fixtures.centre[cand] - [arm.x, arm.y]).T) - fixtures.radius[cand]
+        if bv is None:
+            d_base = np.hypot(*(fixtures.centre[cand] - [arm.x, arm.y]).T)
+        else:  # the nearest any base comes: distance to the bases' bounding box
+            lo, hi = bv.min(axis=0), bv.max(axis=0)
+            gap = np.maximum(np.maximum(lo - fixtures.centre[cand], fixtures.centre[cand] - hi), 0)
+            d_base = np.hypot(gap[:, 0], gap[:, 1])
+        d_base = d_base - fixtures.radius[cand]
         near = d_base <= reach
         cur = best[vidx].copy()
         cur_b = np.full(len(vidx), -1, dtype=np.int64)
@@ -959,6 +979,7 @@ def arm_clearance(
     work_height: ArrayLike = np.nan,
     margin: float = 0.0,
     bodies: ArmBodies | None = None,
+    base_xy: ArrayLike | None = None,
 ) -> PoseClearance:
     """:func:`pose_clearance` for a cell arm and cell fixtures with the 2.5-D rule applied.
 
@@ -973,6 +994,8 @@ def arm_clearance(
         The cell's vertical clearance margin.
     bodies : ArmBodies, optional
         Prebuilt bodies (default: :func:`kinematics.bodies.arm_bodies`).
+    base_xy : array_like, shape broadcastable to S + (2,), optional
+        Base position per pose instead of the arm's own (see :func:`pose_clearance`).
 
     Examples
     --------
@@ -997,7 +1020,7 @@ def arm_clearance(
         same = len(flat) == 0 or np.all(np.isnan(flat)) or np.all(flat == flat[0])
         # One work height (or none) for every pose: one mask row serves them all.
         tm = tool_blocking(arm, fixtures, margin, flat[0] if same and len(flat) else wh)
-    return pose_clearance(ab, fs, q, lm, tm)
+    return pose_clearance(ab, fs, q, lm, tm, base_xy)
 
 
 def body_fixture_clearance(shape_a: ArrayLike, shape_b: ArrayLike) -> float:

@@ -114,6 +114,8 @@ def check_report(
     >>> rep["targets"][0]["feasible"], rep["targets"][0]["reason"]
     (False, 'beyond outer reach by 28.8 mm')
     """
+    from .placement import arm_tolerances  # compiled kernels load on first use only
+
     ev_all = evaluation if evaluation is not None else evaluate_cell(cell)
     tol = REGION_TOL_MM / cell.mm_per_unit
     arms = []
@@ -132,6 +134,8 @@ def check_report(
                 # The base never moves: its clearance is the same at every pose.
                 "base_clearance": _num(aev.base_clearance),
                 "base_blocked_by": _id(aev.base_blocked_by),
+                # How far the base may miss its spot / turn, every target staying feasible.
+                **arm_tolerances(cell, arm.id),
             }
         )
     # One lookup table: locating each target by search would make big cells quadratic.
