@@ -19,13 +19,17 @@ fixtures this is the plain larger-limit-margin rule.
 Then, per sequence: when one configuration is feasible at every target of the
 sequence, all of them use it (the one whose worst score over the sequence is larger),
 because a configuration change passes through full stretch, costs time and sweeps a
-large area (common practice, no source).
+large area (common practice, no source). For a sequence whose arm has joint speed and
+acceleration data, :mod:`kinematics.plan` then chooses the configuration (and q1 + k*360)
+at every target for the fastest cycle instead, and the plans are kept in
+``ArmEvaluation.plans``.
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field, replace
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
@@ -35,6 +39,7 @@ from .cell import Arm, Cell, Fixture, Target
 from .cell import Sequence as Sequence_
 from .clearance import arm_clearance
 from .ik import ELBOWS, REASONS, IKResult, Status, solve_arm
+from .plan import apply_plans, plan_arm
 
 __all__ = [
     "LIMIT_MARGIN_UNIT_DEG",
@@ -79,6 +84,8 @@ class ArmEvaluation:
         The fixtures checked.
     bodies : ArmBodies or None
         The arm's bodies (None for an arm evaluated without fixtures).
+    plans : tuple of kinematics.plan.SequencePlan
+        The configuration plans of the arm's sequences (empty before planning).
     """
 
     arm: Arm
@@ -99,6 +106,7 @@ class ArmEvaluation:
     score: NDArray[np.float64] = field(default_factory=lambda: np.zeros((0, 2)))
     fixtures: tuple[Fixture, ...] = ()
     bodies: ArmBodies | None = None
+    plans: tuple[Any, ...] = ()
 
     def index(self, target_id: str) -> int:
         """Position of a target in this evaluation's arrays."""
@@ -351,7 +359,12 @@ def evaluate_cell_arm(cell: Cell, arm: Arm) -> ArmEvaluation:
         bodies=bodies,
         target_paths=[f"targets[{j}]" for j, _ in picked],
     )
-    return unify_sequences(ev, cell.sequences) if cell.sequences else ev
+    if not cell.sequences:
+        return ev
+    # One configuration per sequence where one fits; then, for sequences with speed data,
+    # the fastest plan (kinematics.plan) replaces that rule.
+    ev = unify_sequences(ev, cell.sequences)
+    return apply_plans(ev, plan_arm(cell, ev))
 
 
 def evaluate_cell(cell: Cell) -> CellEvaluation:
