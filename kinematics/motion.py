@@ -25,7 +25,9 @@ target ``dwell_s``         seconds spent at the target (gripping, placing), 0 or
 sequence ``start_s``       when the arm starts its cycle, seconds, 0 or more (default 0)
 =========================  ==================================================================
 
-The arm's ``joint_speed_dps`` and ``joint_accel_dps2`` must both be given for a time; an
+The loader (:mod:`kinematics.cellfile`) checks these keys; the readers here also refuse
+bad values in cells built in code (ValueError). The arm's ``joint_speed_dps`` and
+``joint_accel_dps2`` must both be given for a time; an
 arm without them gets no time and the report names the missing fields (nothing is
 invented).
 """
@@ -40,7 +42,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 from ruckig import InputParameter, Result, Ruckig, Synchronization, Trajectory
 
-from .cell import Arm, Cell, Sequence, Target
+from .cell import Arm, Sequence, Target
 
 __all__ = [
     "MOTION_FIELDS",
@@ -51,7 +53,6 @@ __all__ = [
     "joint_jerk",
     "dwell_time",
     "start_time",
-    "motion_key_problems",
     "move_profile",
     "move_time",
 ]
@@ -67,38 +68,6 @@ _STRAIGHT_REL = 1e-9
 
 def _is_number(v: Any) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
-
-
-def motion_key_problems(cell: Cell) -> list[tuple[tuple[str | int, ...], str, Any]]:
-    """Malformed motion keys of a cell: ``(json path, what is wrong, value)`` each.
-
-    The loader turns each into a one-line message; an empty list means all are fine.
-
-    Examples
-    --------
-    >>> t = Target("t", "T", 0, 0, "a", extra={"dwell_s": -1})
-    >>> motion_key_problems(Cell("c", targets=(t,)))
-    [(('targets', 0, 'dwell_s'), 'must be a number of 0 or more', -1)]
-    """
-    out: list[tuple[tuple[str | int, ...], str, Any]] = []
-    for i, arm in enumerate(cell.arms):
-        v = arm.extra.get("joint_jerk_dps3")
-        if v is None:
-            continue
-        path = ("arms", i, "joint_jerk_dps3")
-        if not isinstance(v, (list, tuple)) or len(v) != 2:
-            out.append((path, "must be a list of 2 positive numbers", v))
-            continue
-        for k, j in enumerate(v):
-            if not _is_number(j) or not j > 0:
-                out.append((path + (k,), "must be a positive number", j))
-    for key, items in (("targets", cell.targets), ("sequences", cell.sequences)):
-        name = "dwell_s" if key == "targets" else "start_s"
-        for i, item in enumerate(items):
-            v = item.extra.get(name)
-            if v is not None and (not _is_number(v) or v < 0):
-                out.append(((key, i, name), "must be a number of 0 or more", v))
-    return out
 
 
 def joint_jerk(arm: Arm) -> tuple[float, float] | None:
