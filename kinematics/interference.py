@@ -128,6 +128,20 @@ class ArmTimeline:
         before = np.concatenate([[0.0], np.cumsum(self.travel)[:-1]])
         return n * self.cycle_travel + before[seg] + self.travel[seg] * s
 
+    def pose_and_travel(self, t: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+        """Joint angles (degrees) and :meth:`travelled` at absolute times ``t`` in one pass."""
+        t = np.asarray(t, dtype=float)
+        T = self.cycle_time_s
+        seg, s, _ = self.plan.progress(self.phase(t))
+        pc_from = np.array([g.path.q_from for g in self.plan.segments]).reshape(-1, 2)
+        pc_to = np.array([g.path.q_to for g in self.plan.segments]).reshape(-1, 2)
+        q = pc_from[seg] + s[..., None] * (pc_to - pc_from)[seg]
+        if T <= 0:
+            return q, np.zeros_like(t)
+        n = np.floor((t - self.start_s) / T)
+        before = np.concatenate([[0.0], np.cumsum(self.travel)[:-1]])
+        return q, n * self.cycle_travel + before[seg] + self.travel[seg] * s
+
     def boundaries(self, t0: float, t1: float) -> NDArray[np.float64]:
         """Absolute times in [t0, t1] where a dwell or a move starts or ends."""
         T = self.cycle_time_s
@@ -217,12 +231,12 @@ def pose_cores(bodies: ArmBodies, q_deg: ArrayLike) -> list[_Core]:
 
 
 def _pt_seg(x: NDArray, p: NDArray, q: NDArray) -> NDArray:
-    d = q - p
-    num = np.sum((x - p) * d, axis=-1)
-    dd = np.broadcast_to(np.sum(d * d, axis=-1), num.shape)
-    t = np.clip(np.divide(num, dd, out=np.zeros(num.shape), where=dd > 0), 0.0, 1.0)
-    e = x - (p + t[..., None] * d)
-    return np.sqrt(np.sum(e * e, axis=-1))
+    dx, dy = q[..., 0] - p[..., 0], q[..., 1] - p[..., 1]
+    wx, wy = x[..., 0] - p[..., 0], x[..., 1] - p[..., 1]
+    dd = dx * dx + dy * dy
+    t = np.clip((wx * dx + wy * dy) / np.where(dd > 0, dd, 1.0), 0.0, 1.0)
+    ex, ey = wx - t * dx, wy - t * dy
+    return np.sqrt(ex * ex + ey * ey)
 
 
 def _cross(u: NDArray, v: NDArray) -> NDArray:
@@ -437,20 +451,20 @@ class Interference:
 # searches
 
 
-def _grid(
-    times: NDArray, travel: Any, step: float
-) -> NDArray[np.float64]:
+def _grid(times: NDArray, travel: Any, step: float) -> NDArray[np.float64]:
     """Sorted unique times, with intervals split until each has travel <= step."""
     t = np.unique(times)
     for _ in range(60):
-        lam = travel(t)
-        dl = np.diff(lam)
-        big = np.flatnonzero(dl > step)
-        if len(big) == 0:
+        dl = np.diff(travel(t))
+        k = np.minimum(np.ceil(dl / step), 64).astype(np.int64)
+        k = np.maximum(k, 1)
+        if (k == 1).all():
             break
-        k = np.minimum(np.ceil(dl[big] / step).astype(np.int64), 64)
-        extra = [np.linspace(t[i], t[i + 1], n + 1)[1:-1] for i, n in zip(big, k)]
-        t = np.unique(np.concatenate([t] + extra))
+        rep = np.repeat(np.arange(len(k)), k - 1)
+        first = np.concatenate([[0], np.cumsum(k - 1)[:-1]])
+        frac = (np.arange(len(rep)) - first[rep] + 1) / k[rep]
+        extra = t[rep] + frac * (t[rep + 1] - t[rep])
+        t = np.unique(np.concatenate([t, extra]))
     return t
 
 
@@ -460,19 +474,19 @@ def _pair(ta: ArmTimeline, tb: ArmTimeline, horizon: float, r_min: float) -> Sep
     def travel(t: NDArray) -> NDArray:
         return ta.travelled(t) + tb.travelled(t)
 
-    def gap(t: NDArray) -> tuple[NDArray, NDArray, NDArray]:
-        qa, _ = ta.at(t)
-        qb, _ = tb.at(t)
-        return arm_distance(pose_cores(ta.bodies, qa), pose_cores(tb.bodies, qb))
+    def gap(t: NDArray) -> tuple[NDArray, NDArray, NDArray, NDArray]:
+        qa, la = ta.pose_and_travel(t)
+        qb, lb = tb.pose_and_travel(t)
+        d, i, j = arm_distance(pose_cores(ta.bodies, qa), pose_cores(tb.bodies, qb))
+        return d, i, j, la + lb
 
     marks = np.concatenate([[0.0, horizon], ta.boundaries(0, horizon), tb.boundaries(0, horizon)])
     t = _grid(marks, travel, _START_TRAVEL * r_min)
-    d, bi, bj = gap(t)
+    d, bi, bj, lam = gap(t)
     tol_min = MIN_TOL_FRACTION * r_min
     tol_contact = CONTACT_TOL_FRACTION * r_min
     evals = len(t)
     for _ in range(200):
-        lam = travel(t)
         dl = np.diff(lam)
         lower = 0.5 * (d[:-1] + d[1:] - dl)
         best = float(d.min())
@@ -486,14 +500,14 @@ def _pair(ta: ArmTimeline, tb: ArmTimeline, horizon: float, r_min: float) -> Sep
         if k == 0 or evals + k > _MAX_EVALS:
             break
         mid = 0.5 * (t[:-1] + t[1:])[need]
-        dm, im, jm = gap(mid)
+        dm, im, jm, lm = gap(mid)
         evals += k
         order = np.argsort(np.concatenate([t, mid]), kind="stable")
         t = np.concatenate([t, mid])[order]
         d = np.concatenate([d, dm])[order]
         bi = np.concatenate([bi, im])[order]
         bj = np.concatenate([bj, jm])[order]
-    lam = travel(t)
+        lam = np.concatenate([lam, lm])[order]
     lower = 0.5 * (d[:-1] + d[1:] - np.diff(lam))
     k = int(np.argmin(d))
     low = float(min(d[k], lower.min())) if len(lower) else float(d[k])
@@ -537,6 +551,27 @@ def _zone_rings(geometry: Any, tol: float) -> list[NDArray[np.float64]]:
     return [np.asarray(p.exterior.coords, dtype=float)[:-1] for p in polys]
 
 
+def _segment_ring_gap(a: NDArray, b: NDArray, ring: NDArray) -> NDArray:
+    """Distance from segments a-b (P, 2) to a closed ring's outline (E, 2): the ring's
+    vertices to the segment bound it from above; only edges whose boxes come that close
+    are measured exactly."""
+    v0, v1 = ring, np.roll(ring, -1, axis=0)
+    ub = _pt_seg(v0[None, :, :], a[:, None, :], b[:, None, :]).min(axis=1)
+    slo, shi = np.minimum(a, b), np.maximum(a, b)
+    elo, ehi = np.minimum(v0, v1), np.maximum(v0, v1)
+    gx = np.maximum(
+        np.maximum(elo[None, :, 0] - shi[:, None, 0], slo[:, None, 0] - ehi[None, :, 0]), 0
+    )
+    gy = np.maximum(
+        np.maximum(elo[None, :, 1] - shi[:, None, 1], slo[:, None, 1] - ehi[None, :, 1]), 0
+    )
+    p, e = np.nonzero(gx * gx + gy * gy <= (ub * ub)[:, None])
+    d = _seg_seg(a[p], b[p], v0[e], v1[e])
+    out = ub.copy()
+    np.minimum.at(out, p, d)
+    return out
+
+
 def _zone_gap(cores: Sequence[_Core], rings: Sequence[NDArray], chunk: int = 2048) -> NDArray:
     """Gap between posed bodies and a zone's rings (<= 0: inside), a lower bound away
     from the zone (bounding boxes) and exact near it."""
@@ -552,18 +587,20 @@ def _zone_gap(cores: Sequence[_Core], rings: Sequence[NDArray], chunk: int = 204
             box = np.hypot(g[:, 0], g[:, 1])
             near = np.flatnonzero(box <= 0)
             d = box
+            if len(near):
+                # A core point inside the ring: inside, no distance needed.
+                first = pts[near, 0, :]
+                ins = _inside(first, np.broadcast_to(ring, (len(near),) + ring.shape))
+                d[near[ins]] = -core.radius
+                near = near[~ins]
             for k in range(0, len(near), chunk):
                 rows = near[k : k + chunk]
-                part = _Core(
-                    core.name,
-                    core.radius,
-                    None if core.a is None else core.a[rows],
-                    None if core.b is None else core.b[rows],
-                    None if core.W is None else core.W[rows],
-                )
+                if core.W is None:
+                    d[rows] = _segment_ring_gap(core.a[rows], core.b[rows], ring) - core.radius
+                    continue
+                part = _Core(core.name, 0.0, None, None, core.W[rows])
                 W = np.broadcast_to(ring, (len(rows),) + ring.shape)
-                zone = _Core("zone", 0.0, None, None, W)
-                d[rows] = _core_distance(part, zone)
+                d[rows] = _core_distance(part, _Core("zone", 0.0, None, None, W))
             out = np.minimum(out, d)
     return out
 
@@ -601,7 +638,7 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
     """
     T = tl.cycle_time_s
     step = SAMPLE_FRACTION * tl.bodies.min_link_radius
-    rings = _zone_rings(geometry, 0.25 * step)
+    rings = _zone_rings(geometry, step)
     if not rings or T <= 0:
         return ()
     moving = ArmBodies(
@@ -612,9 +649,9 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
     )
     t0 = tl.start_s
 
-    def clear(tau: NDArray) -> NDArray:
-        q, _ = tl.plan.at(tau)
-        return _zone_gap(pose_cores(moving, q), rings)
+    def clear(tau: NDArray) -> tuple[NDArray, NDArray]:
+        q, lam = tl.pose_and_travel(t0 + tau)
+        return _zone_gap(pose_cores(moving, q), rings), lam
 
     def travel(tau: NDArray) -> NDArray:
         return tl.travelled(t0 + tau)
@@ -623,10 +660,10 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
     for s in tl.plan.segments:
         marks += [s.start_s, s.move_start_s, s.end_s]
     tau = _grid(np.clip(np.asarray(marks), 0.0, T), travel, 10.0 * step)
-    c = clear(tau)
+    c, lam = clear(tau)
     evals = len(tau)
     for _ in range(200):
-        dl = np.diff(travel(tau))
+        dl = np.diff(lam)
         out_sure = (c[:-1] > 0) & (c[1:] > 0) & (c[:-1] + c[1:] - dl > 0)
         # Inside at both ends counts as inside throughout (a cover: a brief exit between
         # two samples inside would only shorten the interval).
@@ -636,12 +673,13 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
         if k == 0 or evals + k > _MAX_EVALS:
             break
         mid = 0.5 * (tau[:-1] + tau[1:])[need]
-        cm = clear(mid)
+        cm, lm = clear(mid)
         evals += k
         order = np.argsort(np.concatenate([tau, mid]), kind="stable")
         tau = np.concatenate([tau, mid])[order]
         c = np.concatenate([c, cm])[order]
-    dl = np.diff(travel(tau))
+        lam = np.concatenate([lam, lm])[order]
+    dl = np.diff(lam)
     out_sure = (c[:-1] > 0) & (c[1:] > 0) & (c[:-1] + c[1:] - dl > 0)
     iv = [(float(tau[i]), float(tau[i + 1])) for i in np.flatnonzero(~out_sure)]
     return tuple(_merge(iv))
@@ -700,15 +738,30 @@ def start_shift(
     if not intervals_a or not cycle_b or period_b <= 0:
         return 0.0
     copies = _on_horizon(cycle_b, start_b, period_b, -2 * period_b, horizon + 2 * period_b)
-    bad = [(a0 - b1, a1 - b0) for a0, a1 in intervals_a for b0, b1 in copies]
-    bad = [(lo, hi) for lo, hi in bad if hi > -period_b and lo < period_b]
-    cands = sorted({0.0, *(v for iv in bad for v in iv)}, key=lambda v: (abs(v), -v))
-    for v in cands:
-        if abs(v) > period_b:
-            break
-        if not any(lo < v < hi for lo, hi in bad):
-            return float(v) + 0.0
-    return None
+    a = np.asarray(intervals_a, dtype=float).reshape(-1, 2)
+    b = np.asarray(copies, dtype=float).reshape(-1, 2)
+    # Shifts v that make [a0, a1] and [b0 + v, b1 + v] overlap: the open (a0 - b1, a1 - b0).
+    lo = (a[:, None, 0] - b[None, :, 1]).ravel()
+    hi = (a[:, None, 1] - b[None, :, 0]).ravel()
+    keep = (hi > -period_b) & (lo < period_b) & (hi > lo)
+    lo, hi = lo[keep], hi[keep]
+    if not len(lo):
+        return 0.0
+    order = np.argsort(lo)
+    lo, hi = lo[order], hi[order]
+    # Merge overlapping open intervals; touching ones stay apart (the shared end is allowed).
+    reach = np.maximum.accumulate(hi)
+    start = np.concatenate([[True], lo[1:] >= reach[:-1]])
+    gid = np.cumsum(start) - 1
+    mlo = lo[start]
+    mhi = np.maximum.reduceat(hi, np.flatnonzero(start))
+    inside = (mlo < 0.0) & (0.0 < mhi)
+    if not inside.any():
+        return 0.0
+    k = int(np.flatnonzero(inside)[0])
+    del gid
+    cands = [(abs(v), -v, v) for v in (float(mhi[k]), float(mlo[k])) if abs(v) <= period_b]
+    return min(cands)[2] + 0.0 if cands else None
 
 
 def run_interference(

@@ -257,13 +257,16 @@ class _Solver:
         self.inp.target_velocity = [0.0] * dofs
         self.inp.target_acceleration = [0.0] * dofs
         self.inp.synchronization = Synchronization.Phase
+        self.limits: tuple = ()
 
     def solve(self, target: list[float], v: list[float], a: list[float], j: list[float]) -> Any:
         inp = self.inp
         inp.target_position = target
-        inp.max_velocity = v
-        inp.max_acceleration = a
-        inp.max_jerk = j
+        if (v, a, j) != self.limits:  # setting limits costs as much as the calculation
+            inp.max_velocity = v
+            inp.max_acceleration = a
+            inp.max_jerk = j
+            self.limits = (v, a, j)
         res = self.otg.calculate(inp, self.traj)
         if res not in (Result.Working, Result.Finished):
             raise ValueError(f"ruckig could not time the move {target} ({res})")
@@ -283,11 +286,12 @@ def _solver(dofs: int) -> _Solver:
 def _straight(traj: Any, d: tuple[float, float]) -> bool:
     """Whether ruckig's two-joint profile keeps the joints in proportion."""
     p0, p1 = traj.profiles[0]
-    if not np.allclose(p0.t, p1.t, rtol=0.0, atol=_STRAIGHT_REL * max(traj.duration, 1e-12)):
+    # Phase synchronisation gives every joint the leading joint's phase durations.
+    if p0.t != p1.t:
         return False
-    scale = max(abs(d[0]), abs(d[1]))
-    a, b = np.asarray(p0.p), np.asarray(p1.p)
-    return bool(np.all(np.abs(a * d[1] - b * d[0]) <= _STRAIGHT_REL * scale * scale + 1e-300))
+    d0, d1 = d
+    tol = _STRAIGHT_REL * max(abs(d0), abs(d1)) ** 2
+    return all(abs(a * d1 - b * d0) <= tol for a, b in zip(p0.p, p1.p))
 
 
 def _path_limits(d: tuple[float, float], lim: MotionLimits) -> tuple[float, float, float]:
