@@ -69,10 +69,11 @@ def build_plan_cell(n_targets: int, n_fixtures: int, seed: int = 5):
         joint_accel_dps2=(3200.0, 4200.0),
         extra={"tool_body": {"radius": 25.0}},
     )
+    # Tables the links pass over; bins, columns and keep-out zones near the edge of reach.
     kinds = [("table", 450.0, (250, 600), (60, 160))] * 16
-    kinds += [("fixture", 700.0, (300, 620), (30, 60))] * 10
-    kinds += [("column", 2500.0, (500, 640), (30, 45))] * 4
-    kinds += [("keep-out", 0.0, (560, 640), (40, 80))] * 2
+    kinds += [("fixture", 700.0, (640, 700), (30, 60))] * 10
+    kinds += [("column", 2500.0, (660, 720), (30, 45))] * 4
+    kinds += [("keep-out", 0.0, (650, 720), (40, 80))] * 2
     kinds = kinds[:n_fixtures]
     fixtures = []
     for i, (kind, height, (r0, r1), (s0, s1)) in enumerate(kinds):
@@ -93,15 +94,17 @@ def build_plan_cell(n_targets: int, n_fixtures: int, seed: int = 5):
 
     targets = []
     while len(targets) < 2 * n_targets:
-        r = math.sqrt(rng.uniform(260.0**2, 600.0**2))
-        a = rng.uniform(-math.pi, math.pi)
+        r = math.sqrt(rng.uniform(260.0**2, 560.0**2))
+        a = math.radians(90.0 + rng.uniform(-140.0, 140.0))  # in front of the arm
         tid = f"t{len(targets)}"
         t = Target(tid, tid, r * math.cos(a), r * math.sin(a), "arm")
         ev = evaluate_arm(arm, [t], fixtures)
         if bool(ev.feasible[0]):
             targets.append(t)
     ang = np.array([math.atan2(t.y, t.x) for t in targets]) + rng.normal(0, 0.15, len(targets))
-    pool = [targets[k] for k in np.argsort(ang)]
+    by_angle = [targets[k] for k in np.argsort(ang)]
+    # Out along one half, back along the other: no long wrap behind the arm.
+    pool = by_angle[0::2] + by_angle[1::2][::-1]
     # Keep a target only when some clear move leads to it from the last one kept (so the
     # sequence has a plan); setup, not timed.
     ev_all = evaluate_arm(arm, pool, fixtures)
@@ -235,7 +238,8 @@ def main(argv: list[str] | None = None) -> int:
     print(
         f"plan: {n} targets ({both} with both configurations usable), {len(cell.fixtures)} "
         f"fixtures; cycle {plan.cycle_time_s:.3f} s, one configuration "
-        f"{plan.single_configuration_cycle_time_s or float('nan'):.3f} s, "
+        f"{plan.single_configuration_cycle_time_s or float('nan'):.3f} s "
+        f"(forced changes at {len(plan.forced_changes)} targets), "
         f"{plan.configuration_changes} configuration changes"
     )
     print(
