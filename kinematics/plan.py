@@ -410,8 +410,13 @@ class _Mover:
         qb = np.array([t[1].q_to for t in todo], dtype=float)
         tmask = np.zeros((E, F), dtype=bool)
         if self.has_tool:
+            masks: dict[tuple, NDArray[np.bool_]] = {}
             for e, t in enumerate(todo):
-                tmask[e] = move_tool_mask(self.arm, self.fixtures, self.margin, True, t[6], t[7])
+                m = masks.get((t[6], t[7]))
+                if m is None:
+                    m = move_tool_mask(self.arm, self.fixtures, self.margin, True, t[6], t[7])
+                    masks[(t[6], t[7])] = m
+                tmask[e] = m
         # End clearances: the evaluation's, where its tool mask covers the move's (fewer
         # blocking fixtures can only give more clearance); else computed here.
         c_end = np.full((E, 2), np.nan)
@@ -481,41 +486,57 @@ class _Graph:
 
 
 def _dp(g: _Graph, usable: list[NDArray[np.bool_]]) -> tuple[float, list[int]] | None:
-    """The fastest cycle through usable states; ties go to fewer configuration changes."""
+    """The fastest cycle through usable states; ties go to fewer configuration changes.
+
+    Plain Python: a visit has only a few states, where numpy's per-call cost dominates.
+    """
     n = len(g.states)
-    m0 = len(g.states[0])
-    if m0 == 0 or not usable[0].any():
-        return None
-    D = np.full((m0, m0), np.inf)
-    start = np.flatnonzero(usable[0])
-    D[start, start] = 0.0
-    C = np.zeros((m0, m0))
-    preds = []
-    for p in range(n):
-        nxt = (p + 1) % n
-        W = np.where(g.checked[p] == 2, np.inf, g.times[p])
-        W = np.where(usable[p][:, None] & usable[nxt][None, :], W, np.inf)
-        T = D[:, :, None] + W[None]
-        K = C[:, :, None] + g.changes[p][None]
-        tmin = T.min(axis=1)
-        near = T <= tmin[:, None, :] + TIME_TIE_S
-        arg = np.where(near, K, np.inf).argmin(axis=1)
-        D = np.take_along_axis(T, arg[:, None, :], axis=1)[:, 0, :]
-        C = np.take_along_axis(K, arg[:, None, :], axis=1)[:, 0, :]
-        preds.append(arg)
-    tot, ch = np.diag(D).copy(), np.diag(C).copy()
-    if not np.isfinite(tot).any():
-        return None
-    best = float(tot.min())
-    cand = np.flatnonzero(tot <= best + TIME_TIE_S)
-    s = int(cand[np.argmin(ch[cand])])
-    chain = [0] * n
-    b = s
-    for p in range(n - 1, -1, -1):
-        a = int(preds[p][s, b])
-        chain[p] = a
-        b = a
-    return float(tot[s]), chain
+    ok = [u.tolist() for u in usable]
+    W = [np.where(g.checked[p] == 2, np.inf, g.times[p]).tolist() for p in range(n)]
+    C = [g.changes[p].tolist() for p in range(n)]
+    inf = math.inf
+    best: tuple[float, float, list[int]] | None = None
+    for s in range(len(g.states[0])):
+        if not ok[0][s]:
+            continue
+        D: dict[int, tuple[float, float]] = {s: (0.0, 0.0)}
+        preds: list[dict[int, int]] = []
+        for p in range(n):
+            nxt = (p + 1) % n
+            okn = ok[nxt]
+            Wp, Cp = W[p], C[p]
+            new: dict[int, tuple[float, float]] = {}
+            pred: dict[int, int] = {}
+            for a_, (ta, ca) in D.items():
+                row, crow = Wp[a_], Cp[a_]
+                for b_ in range(len(row)):
+                    w = row[b_]
+                    if w == inf or not okn[b_]:
+                        continue
+                    t, c = ta + w, ca + crow[b_]
+                    cur = new.get(b_)
+                    if (
+                        cur is None
+                        or t < cur[0] - TIME_TIE_S
+                        or (t <= cur[0] + TIME_TIE_S and c < cur[1])
+                    ):
+                        new[b_] = (t, c)
+                        pred[b_] = a_
+            preds.append(pred)
+            D = new
+            if not D:
+                break
+        if s not in D or len(preds) < n:
+            continue
+        t, c = D[s]
+        if best is None or t < best[0] - TIME_TIE_S or (t <= best[0] + TIME_TIE_S and c < best[1]):
+            chain = [0] * n
+            b_ = s
+            for p in range(n - 1, -1, -1):
+                b_ = preds[p][b_]
+                chain[p] = b_
+            best = (t, c, chain)
+    return None if best is None else (best[0], best[2])
 
 
 def _plan_edges(chain: list[int], n: int) -> list[tuple[int, int, int]]:
@@ -608,9 +629,8 @@ def plan_sequence(
     every = [np.ones(len(s), dtype=bool) for s in states]
     fits = [[np.array([s.fits(k) for s in st], dtype=bool) for st in states] for k in (0, 1)]
     usable_sets = [every, fits[0], fits[1]]
-    results: list[tuple[float, list[int]] | None] = [None, None, None]
+    results = [_dp(g, u) for u in usable_sets]
     for rnd in range(_LAZY_ROUNDS + 1):
-        results = [_dp(g, u) for u in usable_sets]
         pending = []
         for res in results:
             if res is None:
@@ -628,7 +648,7 @@ def plan_sequence(
                 for a, b in np.argwhere(np.isfinite(g.times[p]) & (g.checked[p] == 0))
             ]
         verify(pending)
-    results = [_dp(g, u) for u in usable_sets]
+        results = [_dp(g, u) for u in usable_sets]
     dwell = [dwell_time(t) for t in targets]
 
     def segments(chain: list[int]) -> tuple[PlanSegment, ...]:
