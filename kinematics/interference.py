@@ -101,11 +101,22 @@ class ArmTimeline:
         """Bound on how far any body point travels in one cycle."""
         return float(self.travel.sum())
 
+    def _cycles(self, t: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+        """Whole cycles done and the time into the current one, consistently rounded."""
+        T = self.cycle_time_s
+        x = np.asarray(t, dtype=float) - self.start_s
+        if T <= 0:
+            return np.zeros_like(x), np.zeros_like(x)
+        n = np.floor(x / T)
+        ph = x - n * T
+        over, under = ph >= T, ph < 0
+        n = n + over - under
+        ph = np.where(over, ph - T, np.where(under, ph + T, ph))
+        return n, np.clip(ph, 0.0, np.nextafter(T, 0.0))
+
     def phase(self, t: ArrayLike) -> NDArray[np.float64]:
         """Time into the current cycle at absolute times ``t``."""
-        T = self.cycle_time_s
-        t = np.asarray(t, dtype=float) - self.start_s
-        return np.mod(t, T) if T > 0 else np.zeros_like(t)
+        return self._cycles(t)[1]
 
     def at(self, t: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
         """Joint angles (degrees) and joint speeds (deg/s) at absolute times ``t``, shape
@@ -120,11 +131,10 @@ class ArmTimeline:
         """Monotone travel bound: any body point moves at most ``travelled(t1) -
         travelled(t0)`` between absolute times t0 <= t1."""
         t = np.asarray(t, dtype=float)
-        T = self.cycle_time_s
-        if T <= 0:
+        if self.cycle_time_s <= 0:
             return np.zeros_like(t)
-        n = np.floor((t - self.start_s) / T)
-        seg, s, _ = self.plan.progress(self.phase(t))
+        n, ph = self._cycles(t)
+        seg, s, _ = self.plan.progress(ph)
         before = np.concatenate([[0.0], np.cumsum(self.travel)[:-1]])
         return n * self.cycle_travel + before[seg] + self.travel[seg] * s
 
@@ -132,13 +142,13 @@ class ArmTimeline:
         """Joint angles (degrees) and :meth:`travelled` at absolute times ``t`` in one pass."""
         t = np.asarray(t, dtype=float)
         T = self.cycle_time_s
-        seg, s, _ = self.plan.progress(self.phase(t))
+        n, ph = self._cycles(t)
+        seg, s, _ = self.plan.progress(ph)
         pc_from = np.array([g.path.q_from for g in self.plan.segments]).reshape(-1, 2)
         pc_to = np.array([g.path.q_to for g in self.plan.segments]).reshape(-1, 2)
         q = pc_from[seg] + s[..., None] * (pc_to - pc_from)[seg]
         if T <= 0:
             return q, np.zeros_like(t)
-        n = np.floor((t - self.start_s) / T)
         before = np.concatenate([[0.0], np.cumsum(self.travel)[:-1]])
         return q, n * self.cycle_travel + before[seg] + self.travel[seg] * s
 
@@ -572,9 +582,12 @@ def _segment_ring_gap(a: NDArray, b: NDArray, ring: NDArray) -> NDArray:
     return out
 
 
-def _zone_gap(cores: Sequence[_Core], rings: Sequence[NDArray], chunk: int = 2048) -> NDArray:
-    """Gap between posed bodies and a zone's rings (<= 0: inside), a lower bound away
-    from the zone (bounding boxes) and exact near it."""
+def _zone_gap(
+    cores: Sequence[_Core], rings: Sequence[NDArray], near_gap: float, chunk: int = 2048
+) -> NDArray:
+    """Gap between posed bodies and a zone's rings (<= 0: inside): exact where the
+    bodies' boxes come within ``near_gap`` of the zone's, else that box distance (a lower
+    bound)."""
     P = len(cores[0].a if cores[0].a is not None else cores[0].W)
     out = np.full(P, np.inf)
     for ring in rings:
@@ -585,7 +598,7 @@ def _zone_gap(cores: Sequence[_Core], rings: Sequence[NDArray], chunk: int = 204
             bhi = pts.max(axis=1) + core.radius
             g = np.maximum(np.maximum(lo - bhi, blo - hi), 0.0)
             box = np.hypot(g[:, 0], g[:, 1])
-            near = np.flatnonzero(box <= 0)
+            near = np.flatnonzero(box <= near_gap)
             d = box
             if len(near):
                 # A core point inside the ring: inside, no distance needed.
@@ -638,7 +651,7 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
     """
     T = tl.cycle_time_s
     step = SAMPLE_FRACTION * tl.bodies.min_link_radius
-    rings = _zone_rings(geometry, step)
+    rings = _zone_rings(geometry, 0.2 * step)
     if not rings or T <= 0:
         return ()
     moving = ArmBodies(
@@ -651,7 +664,7 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
 
     def clear(tau: NDArray) -> tuple[NDArray, NDArray]:
         q, lam = tl.pose_and_travel(t0 + tau)
-        return _zone_gap(pose_cores(moving, q), rings), lam
+        return _zone_gap(pose_cores(moving, q), rings, 4.0 * step), lam
 
     def travel(tau: NDArray) -> NDArray:
         return tl.travelled(t0 + tau)
@@ -668,7 +681,7 @@ def zone_occupancy(tl: ArmTimeline, geometry: Any) -> tuple[tuple[float, float],
         # Inside at both ends counts as inside throughout (a cover: a brief exit between
         # two samples inside would only shorten the interval).
         in_both = (c[:-1] <= 0) & (c[1:] <= 0)
-        need = ~out_sure & ~in_both & (dl > step)
+        need = ~out_sure & ~in_both & (dl > 0.5 * step)
         k = int(np.count_nonzero(need))
         if k == 0 or evals + k > _MAX_EVALS:
             break
