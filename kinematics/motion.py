@@ -75,8 +75,10 @@ def joint_jerk(arm: Arm) -> tuple[float, float] | None:
     v = arm.extra.get("joint_jerk_dps3")
     if v is None:
         return None
-    if not isinstance(v, (list, tuple)) or len(v) != 2 or not all(
-        _is_number(j) and j > 0 for j in v
+    if (
+        not isinstance(v, (list, tuple))
+        or len(v) != 2
+        or not all(_is_number(j) and j > 0 for j in v)
     ):
         raise ValueError(f"arm {arm.id!r}: joint_jerk_dps3 must be 2 positive numbers, got {v!r}")
     return (float(v[0]), float(v[1]))

@@ -379,9 +379,10 @@ class _Mover:
 
     def speed(self, d: NDArray) -> NDArray:
         r = np.radians(np.abs(d))
-        return np.maximum(self.p1 * r[:, 0], self.arm.a1 * r[:, 0] + self.p2 * np.abs(
-            np.radians(d[:, 0] + d[:, 1])
-        ))
+        return np.maximum(
+            self.p1 * r[:, 0],
+            self.arm.a1 * r[:, 0] + self.p2 * np.abs(np.radians(d[:, 0] + d[:, 1])),
+        )
 
     def key(self, path: JointPath, wa: float | None, wb: float | None) -> tuple:
         return (path.q_from, path.q_to, wa, wb)
@@ -700,9 +701,7 @@ def plan_sequence(
     )
 
 
-def _build_graph(
-    arm: Arm, states: list[list[PlanState]], limits: MotionLimits, n: int
-) -> _Graph:
+def _build_graph(arm: Arm, states: list[list[PlanState]], limits: MotionLimits, n: int) -> _Graph:
     paths, deltas, where = [], [], []
     for p in range(n):
         sa, sb = states[p], states[(p + 1) % n]
@@ -808,9 +807,9 @@ def apply_plans(ev: Any, plans: Sequence[SequencePlan]) -> Any:
     return replace(ev, chosen=chosen, plans=tuple(plans))
 
 
-def planned_moves(cell: Cell, ev: Any, plan: SequencePlan, polygons: bool = False) -> list[
-    MoveResult
-]:
+def planned_moves(
+    cell: Cell, ev: Any, plan: SequencePlan, polygons: bool = False
+) -> list[MoveResult]:
     """The moves of a plan as :class:`kinematics.sweep.MoveResult` (swept like ``check``)."""
     if len(plan.targets) < 2 or not plan.segments:
         return []
