@@ -150,7 +150,9 @@ def _run_check(path: Path, as_json: bool) -> int:
         text = format_check_table(report) + "\n"
     if not _write_out(text):
         return EXIT_UNUSABLE
-    return EXIT_OK if report["summary"]["infeasible"] == 0 else EXIT_INFEASIBLE
+    # Findings: a target that cannot be reached, or two arms that meet.
+    contact = (report.get("interference") or {}).get("first_contact") is not None
+    return EXIT_OK if report["summary"]["infeasible"] == 0 and not contact else EXIT_INFEASIBLE
 
 
 def has_display() -> bool:

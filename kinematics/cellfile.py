@@ -498,6 +498,9 @@ def _read_arm(value: Any, path: JsonPath, r: _Report) -> Arm | None:
             optional[key] = _numbers(v, path + (key,), r, 2, "positive")
     if (v := _optional(obj, "link_underside_height")) is not _MISSING:
         optional["link_underside_height"] = _number(v, path + ("link_underside_height",), r)
+    # Motion key kept in extra (read by kinematics.motion).
+    if (v := _optional(obj, "joint_jerk_dps3")) is not _MISSING:
+        _numbers(v, path + ("joint_jerk_dps3",), r, 2, "positive")
     if r.count != before:
         return None
     extra = _extra(obj, _ARM_KEYS)
@@ -575,6 +578,9 @@ def _read_target(value: Any, path: JsonPath, r: _Report) -> Target | None:
             found[key] = _number(v, p, r)
         else:
             found[key] = _text(v, p, r, is_id=key != "name")
+    # Motion key kept in extra (read by kinematics.motion).
+    if (v := _optional(obj, "dwell_s")) is not _MISSING:
+        _number(v, path + ("dwell_s",), r, "nonnegative")
     if r.count != before:
         return None
     return Target(extra=_extra(obj, _TARGET_KEYS), **found)
@@ -596,6 +602,9 @@ def _read_sequence(value: Any, path: JsonPath, r: _Report) -> Sequence | None:
             tid = _text(t, tp + (i,), r, is_id=True)
             if tid is not None:
                 ids.append(tid)
+    # Motion key kept in extra (read by kinematics.motion).
+    if (v := _optional(obj, "start_s")) is not _MISSING:
+        _number(v, path + ("start_s",), r, "nonnegative")
     if r.count != before:
         return None
     return Sequence(arm=arm, targets=tuple(ids), extra=_extra(obj, _SEQUENCE_KEYS))  # type: ignore[arg-type]

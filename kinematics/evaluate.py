@@ -19,7 +19,10 @@ fixtures this is the plain larger-limit-margin rule.
 Then, per sequence: when one configuration is feasible at every target of the
 sequence, all of them use it (the one whose worst score over the sequence is larger),
 because a configuration change passes through full stretch, costs time and sweeps a
-large area (common practice, no source).
+large area (common practice, no source). For a sequence whose arm has joint speed and
+acceleration data, :mod:`kinematics.plan` then chooses the configuration (and q1 + k*360)
+at every target for the fastest cycle instead, and the plans are kept in
+``ArmEvaluation.plans``.
 """
 
 from __future__ import annotations
@@ -42,6 +45,7 @@ from .cell import Arm, Cell, Fixture, Target
 from .cell import Sequence as Sequence_
 from .clearance import FixtureSet, arm_clearance, base_clearance
 from .ik import ELBOWS, REASONS, IKResult, Status, solve_arm
+from .plan import apply_plans, plan_arm
 
 __all__ = [
     "LIMIT_MARGIN_UNIT_DEG",
@@ -94,6 +98,8 @@ class ArmEvaluation:
         every target fails with status BASE_OVERLAP.
     base_fixture : int
         Index into ``fixtures`` of the fixture nearest the base (-1 when none).
+    plans : tuple of kinematics.plan.SequencePlan
+        The configuration plans of the arm's sequences (empty before planning).
     """
 
     arm: Arm
@@ -116,6 +122,7 @@ class ArmEvaluation:
     bodies: ArmBodies | None = None
     base_clearance: float = np.inf
     base_fixture: int = -1
+    plans: tuple[Any, ...] = ()
     inputs: tuple | None = field(default=None, repr=False, compare=False)
 
     @property
@@ -532,7 +539,12 @@ def evaluate_cell_arm(
     )
     if ev.bodies is None:
         ev = replace(ev, bodies=bodies)
-    return unify_sequences(ev, cell.sequences) if cell.sequences else ev
+    if not cell.sequences:
+        return ev
+    # One configuration per sequence where one fits; then, for sequences with speed data,
+    # the fastest plan (kinematics.plan) replaces that rule.
+    ev = unify_sequences(ev, cell.sequences)
+    return apply_plans(ev, plan_arm(cell, ev))
 
 
 def evaluate_cell(cell: Cell, previous: CellEvaluation | None = None) -> CellEvaluation:

@@ -2,10 +2,12 @@
 
 Moves are expensive (the clearance along a joint path is sampled finely), so a
 :class:`MoveCache` keeps every move keyed by everything it depends on: the arm, the
-fixtures it can reach, the clearance margin, its two targets and the configurations
-chosen at both ends. Successive evaluations of a changing cell share one cache
-(:func:`kinematics.evaluate.evaluate_cell` passes it on), so a drag recomputes only the
-moves it changes. Results are exactly those of :func:`kinematics.sweep.sequence_moves`.
+fixtures it can reach, the clearance margin, its two targets and the joint values at both
+ends (a sequence with a plan, :mod:`kinematics.plan`, moves as the plan says; the others
+between the configurations chosen at the targets). Successive evaluations of a changing
+cell share one cache (:func:`kinematics.evaluate.evaluate_cell` passes it on), so a drag
+recomputes only the moves it changes. Results are exactly those of
+:func:`kinematics.plan.segment_move` and :func:`kinematics.sweep.sequence_moves`.
 """
 
 from __future__ import annotations
@@ -40,6 +42,11 @@ def move_pairs(cell: Cell, arms: Iterable[str] | None = None) -> list[tuple[str,
             pairs.append((ids[-1], ids[0]))
         out.extend((seq.arm, a, b) for a, b in pairs)
     return out
+
+
+def _one_sequence(cell: Cell, seq: Any) -> Cell:
+    """The cell with only one sequence (for the pairs of that sequence)."""
+    return Cell(cell.name, sequences=(seq,))
 
 
 def _end(ev: Any, tid: str) -> tuple[float, float] | None:
@@ -101,41 +108,53 @@ class MoveCache:
     ) -> list[tuple[tuple[str, str, str], MoveResult | None]]:
         """((arm, from, to), move) for every move; with ``compute=False`` a move not yet
         stored for the current state is None instead of being computed (for drag steps)."""
+        from .plan import segment_move, sequence_plan
+
         by_id = {t.id: t for t in cell.targets}
         try:
             margin: float | None = clearance_margin(cell)
         except BodyDataError:
             margin = None
+        wanted = None if arms is None else set(arms)
         out: list[tuple[tuple[str, str, str], MoveResult | None]] = []
-        pairs = move_pairs(cell, arms)
-        if len(self._store) > 4 * len(pairs) + 64:
+        n_moves = sum(len(q.targets) for q in cell.sequences)
+        if len(self._store) > 4 * n_moves + 64:
             # Forget moves of renamed or removed targets and sequences.
             keep = {(arm_id, a, b) for arm_id, a, b in move_pairs(cell)}
             self._store = {k: v for k, v in self._store.items() if k[:3] in keep}
-        for arm_id, a, b in pairs:
-            ev = evaluation.arms.get(arm_id)
+        for k, seq in enumerate(cell.sequences):
+            if wanted is not None and seq.arm not in wanted:
+                continue
+            ev = evaluation.arms.get(seq.arm)
             if ev is None:
                 continue
-            sig = (
-                ev.arm,
-                ev.fixtures,
-                margin,
-                by_id.get(a),
-                by_id.get(b),
-                _end(ev, a),
-                _end(ev, b),
-            )
-            hit = None
-            for poly in (True, polygons):
-                entry = self._store.get((arm_id, a, b, poly))
-                if entry is not None and entry[0] == sig:
-                    hit = entry[1]
-                    break
-            if hit is None and compute:
-                hit = sequence_moves(cell, evaluation, arm_id, [a, b], False, polygons)[0]
-                self.computed += 1
-                self._store[(arm_id, a, b, polygons)] = (sig, hit)
-            out.append(((arm_id, a, b), hit))
+            plan = sequence_plan(ev, k)
+            if plan is not None and plan.segments:
+                # The fastest plan decides the moves (configurations and shoulder turns).
+                steps = [(g.from_id, g.to_id, g) for g in plan.segments]
+            else:
+                steps = [(a, b, None) for _arm, a, b in move_pairs(_one_sequence(cell, seq))]
+            for a, b, seg in steps:
+                ends = (
+                    (seg.path.q_from, seg.path.q_to)
+                    if seg is not None
+                    else (_end(ev, a), _end(ev, b))
+                )
+                sig = (ev.arm, ev.fixtures, margin, by_id.get(a), by_id.get(b), ends)
+                hit = None
+                for poly in (True, polygons):
+                    entry = self._store.get((seq.arm, a, b, poly))
+                    if entry is not None and entry[0] == sig:
+                        hit = entry[1]
+                        break
+                if hit is None and compute:
+                    if seg is not None:
+                        hit = segment_move(cell, ev, seg, polygons)
+                    else:
+                        hit = sequence_moves(cell, evaluation, seq.arm, [a, b], False, polygons)[0]
+                    self.computed += 1
+                    self._store[(seq.arm, a, b, polygons)] = (sig, hit)
+                out.append(((seq.arm, a, b), hit))
         return out
 
     def clear(self) -> None:

@@ -12,6 +12,8 @@ from .caution import CAUTION_SHORT
 from .cell import Cell
 from .evaluate import ArmEvaluation, CellEvaluation, evaluate_cell
 from .ik import ELBOWS
+from .interference import Interference, cell_interference
+from .plan import SequencePlan, plan_arm
 from .regions import arm_regions
 from .sweep import MoveResult
 from .wording import FEASIBLE, target_reason
@@ -161,6 +163,8 @@ def check_report(
             }
         )
     if moves is None:
+        # Sequences with a plan report the plan's moves, the others those between the
+        # chosen configurations (both through the evaluation's one move cache).
         moves = ev_all.moves()
     spaces = ev_all.spaces()
     for a in arms:
@@ -190,7 +194,90 @@ def check_report(
             {"arms": list(z.arms), "space": z.kind, "area": _num(z.area, 3)} for z in spaces.zones
         ],
         "shared_targets": {tid: list(arms) for tid, arms in spaces.targets.items()},
+        "sequences": _sequences(cell, ev_all),
+        "interference": _interference(cell_interference(cell, ev_all, spaces.zones)),
         "summary": summary,
+    }
+
+
+def _plans(cell: Cell, ev_all: CellEvaluation) -> list[SequencePlan]:
+    """Every sequence's plan, in file order (planned here when the evaluation has none)."""
+    by_index: dict[int, SequencePlan] = {}
+    for ev in ev_all.arms.values():
+        plans = ev.plans
+        mine = sum(1 for s in cell.sequences if s.arm == ev.arm.id)
+        if len(plans) != mine:
+            plans = plan_arm(cell, ev)
+        for p in plans:
+            by_index[p.sequence_index] = p
+    return [by_index[k] for k in sorted(by_index)]
+
+
+def _q(q: tuple[float, float]) -> list[float | None]:
+    return [_num(q[0]), _num(q[1])]
+
+
+def _sequences(cell: Cell, ev_all: CellEvaluation) -> list[dict[str, Any]]:
+    out = []
+    for p in _plans(cell, ev_all):
+        single = p.single_configuration_cycle_time_s
+        ppm = p.parts_per_minute
+        out.append(
+            {
+                "arm": p.arm,
+                "targets": list(p.targets),
+                "cycle_time_s": None if p.cycle_time_s is None else _num(p.cycle_time_s),
+                "parts_per_minute": None if ppm is None else _num(ppm),
+                "single_configuration_cycle_time_s": None if single is None else _num(single),
+                "forced_changes": list(p.forced_changes),
+                "missing": list(p.missing),
+                "segments": [
+                    {
+                        "from": s.from_id,
+                        "to": s.to_id,
+                        "time_s": _num(s.time_s),
+                        "elbow_from": s.state_from.elbow,
+                        "elbow_to": s.state_to.elbow,
+                        "q_from_deg": _q(s.path.q_from),
+                        "q_to_deg": _q(s.path.q_to),
+                        "dwell_s": _num(s.dwell_s),
+                    }
+                    for s in p.segments
+                ],
+            }
+        )
+    return out
+
+
+def _interference(it: Interference) -> dict[str, Any]:
+    sep = it.min_separation
+    c = it.first_contact
+    return {
+        "horizon_s": None if it.horizon_s is None else _num(it.horizon_s),
+        # A gap: 0 when bodies of two arms touch or overlap.
+        "min_separation": None if sep is None else _num(max(sep.gap, 0.0)),
+        "first_contact": None
+        if c is None
+        else {
+            "time_s": _num(c.time_s),
+            "arms": list(c.arms),
+            "bodies": list(c.bodies),
+            "moves": [list(m) for m in c.moves],
+        },
+        "zones": [
+            {
+                "arms": list(z.arms),
+                "space": z.space,
+                "intervals": {
+                    arm: [[_num(a), _num(b)] for a, b in iv] for arm, iv in z.intervals.items()
+                },
+                "overlap": z.overlap,
+                "suggested_start_shift_s": None
+                if z.suggested_start_shift_s is None
+                else _num(z.suggested_start_shift_s),
+            }
+            for z in it.zones
+        ],
     }
 
 
@@ -299,6 +386,7 @@ def format_check_table(report: dict[str, Any]) -> str:
         )
     for tid, arms in report.get("shared_targets", {}).items():
         lines.append(f"  target {_plain(tid)} reachable by {', '.join(_plain(x) for x in arms)}")
+    lines += _sequence_lines(report, u)
     s = report["summary"]
     lines += [
         "",
@@ -312,3 +400,88 @@ def format_check_table(report: dict[str, Any]) -> str:
         f"CAUTION: {s['caution']}",
     ]
     return "\n".join(lines)
+
+
+def _t(v: float | None) -> str:
+    return "-" if v is None else f"{v:.3f}"
+
+
+def _intervals(iv: list[list[float]], most: int = 4) -> str:
+    if not iv:
+        return "never"
+    parts = [f"{a:.2f}-{b:.2f}" for a, b in iv[:most]]
+    more = f" and {len(iv) - most} more" if len(iv) > most else ""
+    return ", ".join(parts) + more
+
+
+def _sequence_lines(report: dict[str, Any], u: str) -> list[str]:
+    """The sequences and arms-together sections of the table."""
+    seqs = report.get("sequences") or []
+    if not seqs:
+        return []
+    lines = [
+        "",
+        "Sequences (cycle times in s: joint moves from the speed, acceleration and jerk "
+        "limits, plus dwells):",
+    ]
+    for q in seqs:
+        arm = _plain(q["arm"])
+        n = len(q["targets"])
+        if q["cycle_time_s"] is None:
+            why = (
+                "missing " + ", ".join(q["missing"])
+                if q["missing"]
+                else "no feasible plan (see the targets and moves)"
+            )
+            lines.append(f"  {arm} ({n} targets): no cycle time: {why}")
+            if q["forced_changes"]:
+                ids = ", ".join(_plain(t) for t in q["forced_changes"])
+                lines.append(f"    no single configuration fits: {ids} force a change")
+            continue
+        ppm = q["parts_per_minute"]
+        rate = "" if ppm is None else f", {ppm:.1f} parts/min"
+        single = q["single_configuration_cycle_time_s"]
+        if single is None:
+            ids = ", ".join(_plain(t) for t in q["forced_changes"]) or "-"
+            one = f"no single configuration fits (forced by {ids})"
+        else:
+            one = f"best with one configuration throughout {_t(single)} s"
+        lines.append(f"  {arm} ({n} targets): cycle {_t(q['cycle_time_s'])} s{rate}; {one}")
+        slow = max(q["segments"], key=lambda s: s["time_s"] or 0.0, default=None)
+        for s in q["segments"]:
+            mark = "  <- slowest" if s is slow and len(q["segments"]) > 1 else ""
+            dwell = f", dwell {_t(s['dwell_s'])} s before" if s["dwell_s"] else ""
+            lines.append(
+                f"    {_plain(s['from'])} -> {_plain(s['to'])}  {_t(s['time_s'])} s  "
+                f"{s['elbow_from']} -> {s['elbow_to']}  q1 {_fmt(s['q_from_deg'][0])} -> "
+                f"{_fmt(s['q_to_deg'][0])}{dwell}{mark}"
+            )
+    it = report.get("interference") or {}
+    if it.get("horizon_s") is None:
+        return lines
+    lines += ["", f"Arms together over {_t(it['horizon_s'])} s (each repeating its cycle):"]
+    lines.append(f"  smallest separation {_fmt(it['min_separation'])} {u}")
+    c = it.get("first_contact")
+    if c is not None:
+        where = "; ".join(
+            f"{_plain(a)} {_plain(b)} in {_plain(m[0])} -> {_plain(m[1])}"
+            for a, b, m in zip(c["arms"], c["bodies"], c["moves"])
+        )
+        lines.append(f"  CONTACT at {_t(c['time_s'])} s: {where}")
+    else:
+        lines.append("  no contact between arms")
+    for z in it.get("zones", []):
+        arms = " + ".join(_plain(a) for a in z["arms"])
+        inside = "; ".join(
+            f"{_plain(a)} inside {_intervals(iv)}" for a, iv in z["intervals"].items()
+        )
+        lines.append(f"  shared {z['space']} zone {arms}: {inside}")
+        if z["overlap"]:
+            shift = z["suggested_start_shift_s"]
+            fix = (
+                f"change {_plain(z['arms'][1])}'s start_s by {shift:+.3f} s to separate them"
+                if shift is not None
+                else "no start change within a cycle separates them"
+            )
+            lines.append(f"    OVERLAP (needs an interlock): {fix}")
+    return lines

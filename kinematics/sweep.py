@@ -56,6 +56,8 @@ __all__ = [
     "MoveSweep",
     "MoveResult",
     "joint_path",
+    "joint_path_between",
+    "move_tool_mask",
     "point_speed",
     "sample_count",
     "sweep_move",
@@ -175,6 +177,58 @@ def joint_path(arm: Arm, q_from_deg: ArrayLike, q_to_deg: ArrayLike) -> JointPat
         return JointPath((q1a, float(qa[1])), (q1b, float(qb[1])), bool(opposite), False, reason)
     stretches, _, a2, b2 = best
     return JointPath((q1a, a2), (q1b, b2), stretches == 1, True)
+
+
+def joint_path_between(arm: Arm, q_from_deg: ArrayLike, q_to_deg: ArrayLike) -> JointPath:
+    """The straight joint-space path between two poses, taken with the values given.
+
+    Unlike :func:`joint_path`, no representative is chosen: q1 and q2 run from exactly
+    ``q_from_deg`` to ``q_to_deg`` (for a plan that picks the q1 + k*360 it uses). The path
+    is allowed when both ends are within the joint limits and the elbow does not fold
+    through q2 = +-180 on the way; it changes configuration when it passes full stretch.
+
+    Examples
+    --------
+    >>> arm = Arm("a", "A", 0, 0, 0, 400, 250, (-200, 200), (-150, 150))
+    >>> p = joint_path_between(arm, (-170.0, 60.0), (190.0, -60.0))
+    >>> p.allowed, p.changes_configuration, p.delta
+    (True, True, (360.0, -120.0))
+    >>> joint_path_between(arm, (0.0, 60.0), (0.0, 160.0)).reason
+    'no joint path within the joint limits'
+    """
+    qa = np.asarray(q_from_deg, dtype=float).reshape(2)
+    qb = np.asarray(q_to_deg, dtype=float).reshape(2)
+    a = (float(qa[0]), float(qa[1]))
+    b = (float(qb[0]), float(qb[1]))
+    (lo1, hi1), (lo2, hi2) = arm.q1_limits, arm.q2_limits
+    inside = _in(a[0], lo1, hi1) and _in(b[0], lo1, hi1) and _in(a[1], lo2, hi2)
+    inside = inside and _in(b[1], lo2, hi2)
+    stretches = _crossings(a[1], b[1], 360.0, 0.0)
+    if not inside:
+        return JointPath(a, b, stretches > 0, False, "no joint path within the joint limits")
+    if _crossings(a[1], b[1], 360.0, 180.0):
+        return JointPath(a, b, stretches > 0, False, "the elbow would fold through q2 = +-180")
+    return JointPath(a, b, stretches == 1, True)
+
+
+def move_tool_mask(
+    arm: Arm,
+    fixtures: Sequence[Any],
+    margin: float,
+    has_tool: bool,
+    work_height_from: float | None,
+    work_height_to: float | None,
+) -> NDArray[np.bool_] | None:
+    """Fixtures blocking the tool along a move (the rule :func:`sequence_moves` applies).
+
+    Fixtures taller than the higher of the two ends' work heights; when either end has
+    none, the link rule. None when the arm has no tool body.
+    """
+    if not has_tool:
+        return None
+    wa, wb = work_height_from, work_height_to
+    wh = max(wa, wb) if wa is not None and wb is not None else np.nan
+    return tool_blocking(arm, fixtures, margin, wh)
 
 
 def _joint_reach(body: Body, arm: Arm) -> tuple[float, float]:
