@@ -54,6 +54,7 @@ __all__ = [
 # Elements per temporary array in the kernels: numpy temporaries above roughly 128 KB are
 # fresh memory maps on every call (glibc), several times slower per element.
 CHUNK = 8192
+_SQRT5 = math.sqrt(5.0)
 SEARCH_CHUNK = 16384
 
 
@@ -114,8 +115,20 @@ class FixtureSet:
 
     @classmethod
     def of(cls, fixtures: Sequence[Fixture]) -> FixtureSet:
-        """The prepared set for cell fixtures (cached on their outlines)."""
-        return _fixture_set(tuple(tuple(map(tuple, f.outline)) for f in fixtures))
+        """The prepared set for cell fixtures (cached on their outlines).
+
+        The same fixture objects in the same order (the common case while anything but a
+        fixture is dragged) find their set without rebuilding the key of every outline.
+        """
+        ids = tuple(map(id, fixtures))
+        hit = _BY_OBJECTS.get(ids)
+        if hit is not None and all(a is b for a, b in zip(hit[0], fixtures)):
+            return hit[1]
+        fs = _fixture_set(tuple(f.outline for f in fixtures))
+        if len(_BY_OBJECTS) > 64:
+            _BY_OBJECTS.clear()
+        _BY_OBJECTS[ids] = (tuple(fixtures), fs)
+        return fs
 
     def vertices(
         self, idx: NDArray[np.int64]
@@ -177,6 +190,10 @@ def _ccw(verts: NDArray) -> NDArray:
     """Polygons (n, E, 2) reordered counter-clockwise."""
     area = np.sum(_cross(verts, np.roll(verts, -1, axis=1)), axis=1)
     return np.where((area < 0)[:, None, None], verts[:, ::-1, :], verts)
+
+
+# Fixture objects (kept alive here, so their ids stay theirs) -> their prepared set.
+_BY_OBJECTS: dict[tuple[int, ...], tuple[tuple, FixtureSet]] = {}
 
 
 @lru_cache(maxsize=16)
@@ -796,10 +813,10 @@ def _exact_many(
         R = np.array([pb.body.radius for pb in posed])
         a, b, r = A[jb[rows], p[rows]], B[jb[rows], p[rows]], R[jb[rows]]
         trims = [j for j, pb in enumerate(posed) if pb.body.trim > 0]
+        k = np.zeros(0, dtype=np.int64)
         if trims:
-            tr = np.isin(jb[rows], trims)
-            if tr.any():
-                k = np.flatnonzero(tr)
+            k = np.flatnonzero(np.isin(jb[rows], trims))
+            if len(k):
                 d = b[k] - a[k]
                 length = np.hypot(d[:, 0], d[:, 1])
                 cut = np.minimum(2.0 * r[k], length)
@@ -807,10 +824,17 @@ def _exact_many(
                 o = a[k].copy()
                 a = a.copy()
                 a[k] = o + cut[:, None] * u
-                extra = _trim_rows(o, u[:, 0], u[:, 1], r[k], cut, fs, f[rows[k]])
         sd[rows] = _capsules(a, b, r, fs, f[rows])
-        if trims and tr.any():
-            sd[rows[k]] = np.minimum(sd[rows[k]], extra)
+        if len(k):
+            # The flanks and arc beside the shoulder lie within sqrt(5) radii of the
+            # shoulder axis: only fixtures that near can make them the nearest part.
+            fk = f[rows[k]]
+            near = np.hypot(*(o - fs.centre[fk]).T) - fs.radius[fk] - _SQRT5 * r[k]
+            k2 = np.flatnonzero(near < sd[rows[k]])
+            if len(k2):
+                kk = k[k2]
+                extra = _trim_rows(o[k2], u[k2, 0], u[k2, 1], r[kk], cut[k2], fs, f[rows[kk]])
+                sd[rows[kk]] = np.minimum(sd[rows[kk]], extra)
     for j in np.flatnonzero(~is_cap):
         rj = np.flatnonzero(jb == j)
         if len(rj):

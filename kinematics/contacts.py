@@ -108,8 +108,10 @@ class CollisionSet:
     fails : ndarray of bool, shape (M,)
         True when the target fails (this collision is part of why), False when the
         target is feasible in its other configuration (this one is not used).
-    rings : Rings
-        Outlines of the colliding bodies (ring m belongs to collision m).
+    groups : tuple of (ndarray of int, ndarray)
+        Outlines of the colliding bodies, one entry per body: the collisions it holds
+        (indices into the arrays above) and their closed outlines (n, K, 2), or centre
+        segments (n, 2, 2) for drafts.
     contacts : ndarray, shape (M, 2) or (0, 2)
         Contact points (left out for drafts).
     """
@@ -119,11 +121,27 @@ class CollisionSet:
     body: NDArray[np.int64]
     fixture: NDArray[np.int64]
     fails: NDArray[np.bool_]
-    rings: Rings
+    groups: tuple[tuple[NDArray[np.int64], NDArray[np.float64]], ...]
     contacts: NDArray[np.float64]
 
     def __len__(self) -> int:
         return len(self.target)
+
+    def rings(self, mask: ArrayLike | None = None) -> Rings:
+        """Outlines of the collisions selected by ``mask`` (M,) (default all)."""
+        keep = np.ones(len(self), dtype=bool) if mask is None else np.asarray(mask, dtype=bool)
+        parts = []
+        for rows, arr in self.groups:
+            sel = keep[rows]
+            if sel.any():
+                parts.extend(arr[sel])
+        return rings_from_arrays(parts)
+
+    def segments(self, mask: ArrayLike | None = None) -> NDArray[np.float64]:
+        """Centre segments (n, 2, 2) of the selected collisions of capsule bodies (drafts)."""
+        keep = np.ones(len(self), dtype=bool) if mask is None else np.asarray(mask, dtype=bool)
+        parts = [arr[keep[rows]] for rows, arr in self.groups if arr.shape[1] == 2]
+        return np.concatenate(parts) if parts else np.zeros((0, 2, 2))
 
 
 def collisions(
@@ -144,7 +162,7 @@ def collisions(
     empty = CollisionSet(
         *(np.zeros(0, dtype=np.int64) for _ in range(4)),
         np.zeros(0, dtype=bool),
-        rings_from_arrays([]),
+        (),
         np.zeros((0, 2)),
     )
     if not n or ev.bodies is None or not ev.collides.size:
@@ -162,7 +180,7 @@ def collisions(
         return empty
     q = ev.ik.q_deg[ii, cc]
     ab = ev.bodies
-    rings: list[NDArray] = [np.zeros((0, 2))] * len(ii)
+    groups = []
     width = max(
         SEGMENT_SAMPLES,
         max((len(b.outline) for b in ab.bodies if b.outline is not None), default=0),
@@ -171,9 +189,7 @@ def collisions(
     for b in np.unique(body):
         sel = np.flatnonzero(body == b)
         (posed,) = pose(ab, q[sel], [int(b)])
-        rr = body_rings(posed, 0 if draft else ARC_POINTS)
-        for k, s in enumerate(sel):
-            rings[s] = rr[k]
+        groups.append((sel, body_rings(posed, 0 if draft else ARC_POINTS)))
         core = posed.core
         if core.shape[1] == 2:
             t = np.linspace(0.0, 1.0, width)[None, :, None]
@@ -185,4 +201,4 @@ def collisions(
         outlines = tuple(np.asarray(f.outline, dtype=float) for f in ev.fixtures)
         contacts = contact_points(samples, fix, outlines)
     fails = ~np.asarray(ev.feasible, dtype=bool)[ii]
-    return CollisionSet(ii, cc, body, fix, fails, rings_from_arrays(rings), contacts)
+    return CollisionSet(ii, cc, body, fix, fails, tuple(groups), contacts)

@@ -124,6 +124,7 @@ class ArmEvaluation:
     base_fixture: int = -1
     plans: tuple[Any, ...] = ()
     inputs: tuple | None = field(default=None, repr=False, compare=False)
+    _closest: NDArray[np.int64] | None = field(default=None, init=False, repr=False, compare=False)
 
     @property
     def base_blocked_by(self) -> Fixture | None:
@@ -192,6 +193,36 @@ class ArmEvaluation:
         ]
         m = [-np.inf if np.isnan(v) else v for v in m]
         return 0 if m[0] >= m[1] else 1
+
+    @property
+    def closest_all(self) -> NDArray[np.int64]:
+        """:meth:`closest` of every target at once, shape (N,)."""
+        hit = self._closest
+        if hit is not None:
+            return hit
+        n = len(self.target_ids)
+        out = np.asarray(self.chosen, dtype=np.int64).copy()
+        none = out < 0
+        if none.any():
+            ok = np.asarray(self.ik.ok, dtype=bool)
+            col = (
+                np.asarray(self.collides, dtype=bool)
+                if self.collides.shape == (n, 2)
+                else (np.zeros((n, 2), dtype=bool))
+            )
+            hits = ok & col
+            clear = np.where(hits, np.nan_to_num(self.clearance, nan=-np.inf), -np.inf)
+            by_hit = np.where(clear[:, 1] > clear[:, 0], 1, 0)
+            m = np.where(
+                np.asarray(self.ik.allowed, dtype=bool),
+                np.nan_to_num(self.ik.limit_margin_deg, nan=-np.inf),
+                -np.inf,
+            )
+            by_margin = np.where(m[:, 0] >= m[:, 1], 0, 1)
+            collision = (np.asarray(self.status) == int(Status.COLLISION)) & hits.any(axis=1)
+            out[none] = np.where(collision, by_hit, by_margin)[none]
+        object.__setattr__(self, "_closest", out)
+        return out
 
     def blocking_fixture(self, i: int) -> Fixture | None:
         """For a target turned down by collisions: the fixture hit by the configuration
@@ -477,6 +508,9 @@ def unify_sequences(ev: ArmEvaluation, sequences: Iterable[Sequence_]) -> ArmEva
     return replace(ev, chosen=chosen)
 
 
+_IN_REACH: dict[tuple, tuple[tuple, tuple]] = {}
+
+
 def fixtures_in_reach(bodies: ArmBodies, fixtures: Sequence[Fixture]) -> tuple[Fixture, ...]:
     """The fixtures some body of the arm could touch at some pose (in file order).
 
@@ -501,7 +535,16 @@ def fixtures_in_reach(bodies: ArmBodies, fixtures: Sequence[Fixture]) -> tuple[F
     keep = d <= bodies.reach
     if keep.all():
         return fixtures
-    return tuple(f for f, k in zip(fixtures, keep) if k)
+    # The same selection as last time gives the same tuple (equal inputs stay identical).
+    key = (id(fixtures), keep.tobytes())
+    hit = _IN_REACH.get(key)
+    if hit is not None and hit[0] is fixtures:
+        return hit[1]
+    out = tuple(f for f, k in zip(fixtures, keep) if k)
+    if len(_IN_REACH) > 64:
+        _IN_REACH.clear()
+    _IN_REACH[key] = (fixtures, out)
+    return out
 
 
 def _arm_inputs(cell: Cell, arm: Arm, bodies: ArmBodies) -> tuple:

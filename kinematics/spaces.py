@@ -540,27 +540,41 @@ def evaluation_shared_targets(evaluation: Any) -> dict[str, tuple[str, ...]]:
     """Targets two or more arms can reach clear of fixtures, for an evaluation's cell.
 
     Each arm's own targets come from the evaluation; which other targets it could serve
-    is kept per arm and recomputed only when that arm, the fixtures in its reach or the
-    other arms' targets change.
+    is kept per arm and recomputed only when that arm, the fixtures in its reach or those
+    of the other arms' targets inside its reach annulus change (no target outside the
+    annulus can be served).
     """
     cell, store = evaluation.cell, evaluation.store
     if not cell.targets or len(cell.arms) < 2:
         return {}
-    serves: dict[str, set[str]] = {}
+    cached = store.serves.get("\0targets")
+    if cached is None or cached[0] is not cell.targets:
+        xy = np.array([(t.x, t.y) for t in cell.targets], dtype=float).reshape(-1, 2)
+        owner = np.array([t.arm for t in cell.targets], dtype=object)
+        cached = (cell.targets, xy, owner)
+        store.serves["\0targets"] = cached
+    _targets, xy, owner = cached
+    margin = cell.extra.get("clearance_margin")
+    count: dict[str, list[str]] = {}
     for arm in cell.arms:
         ev = evaluation.arms[arm.id]
-        mine = {tid for tid, ok in zip(ev.target_ids, ev.feasible.tolist()) if ok}
-        others = tuple(t for t in cell.targets if t.arm != arm.id)
-        key = (ev.arm, ev.fixtures, cell.extra.get("clearance_margin"), others)
+        for i in np.flatnonzero(np.asarray(ev.feasible, dtype=bool)).tolist():
+            count.setdefault(ev.target_ids[i], []).append(arm.id)
+        r = np.hypot(xy[:, 0] - arm.x, xy[:, 1] - arm.y)
+        slack = 1e-9 * arm.reach_max
+        cand = (owner != arm.id) & (r <= arm.reach_max + slack) & (r >= arm.reach_min - slack)
+        others = tuple(cell.targets[k] for k in np.flatnonzero(cand).tolist())
+        key = (ev.arm, ev.fixtures, margin, others)
         hit = store.serves.get(arm.id)
         if hit is None or hit[0] != key:
             ok = reachable_by(cell, arm, others, ev.fixtures) if others else np.zeros(0, bool)
-            hit = (key, {t.id for t, k in zip(others, ok.tolist()) if k})
+            hit = (key, [t.id for t, k in zip(others, ok.tolist()) if k])
             store.serves[arm.id] = hit
-        serves[arm.id] = mine | hit[1]
-    out = {}
-    for t in cell.targets:
-        arms = tuple(a.id for a in cell.arms if t.id in serves[a.id])
-        if len(arms) >= 2:
-            out[t.id] = arms
-    return out
+        for tid in hit[1]:
+            count.setdefault(tid, []).append(arm.id)
+    order = {a.id: k for k, a in enumerate(cell.arms)}
+    return {
+        t.id: tuple(sorted(count[t.id], key=order.__getitem__))
+        for t in cell.targets
+        if len(count.get(t.id, ())) >= 2
+    }

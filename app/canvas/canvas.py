@@ -542,11 +542,12 @@ class CellCanvas(QWidget):
         self.spaces.update(frame)
         self.swept.update(frame)
         self.collisions.set_move_contacts(self.swept.contacts)
-        self.collisions.mark_hits(frame, self.swept.hits, live=frame.draft)
-        self.notes.set(
-            self.collisions.notes + self.swept.notes + self.spaces.notes,
-            relayout=not frame.draft,
-        )
+        self.collisions.mark_hits(frame, self.swept.hits, notes=not frame.draft)
+        # Notes explain what the marks show; their texts and layout wait for the pause
+        # (while a drag steps they would chase every pointer move).
+        self.notes.item.setVisible(not frame.draft)
+        if not frame.draft:
+            self.notes.set(self.collisions.notes + self.swept.notes + self.spaces.notes)
         self._drawn = dict(evaluation.arms)
         self._refresh_legend(frame)
 

@@ -60,8 +60,27 @@ class Anchors:
         return Anchors(np.zeros((0, 2)), (), ())
 
 
+_ANCHORS: dict[tuple[int, str | None], tuple[object, Anchors]] = {}
+
+
 def fixture_anchors(fixtures: Iterable[Fixture], exclude: str | None = None) -> Anchors:
-    """Vertices and edge midpoints of every fixture except ``exclude`` (the one being dragged)."""
+    """Vertices and edge midpoints of every fixture except ``exclude`` (the one being dragged).
+
+    Kept for the same fixtures tuple, so a drag does not gather them at every step.
+    """
+    if isinstance(fixtures, tuple):
+        hit = _ANCHORS.get((id(fixtures), exclude))
+        if hit is not None and hit[0] is fixtures:
+            return hit[1]
+        found = _fixture_anchors(fixtures, exclude)
+        if len(_ANCHORS) > 16:
+            _ANCHORS.clear()
+        _ANCHORS[(id(fixtures), exclude)] = (fixtures, found)
+        return found
+    return _fixture_anchors(fixtures, exclude)
+
+
+def _fixture_anchors(fixtures: Iterable[Fixture], exclude: str | None) -> Anchors:
     pts: list[Point] = []
     kinds: list[str] = []
     sources: list[str] = []

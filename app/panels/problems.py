@@ -14,9 +14,10 @@ text changed are touched.
 
 from __future__ import annotations
 
+import numpy as np
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QBrush, QColor
-from PySide6.QtWidgets import QAbstractItemView, QListWidget, QListWidgetItem, QWidget
+from PySide6.QtWidgets import QAbstractItemView, QListView, QListWidget, QListWidgetItem, QWidget
 
 from app.bind import EchoGuard, blocked
 from app.document import Changes, Document
@@ -67,13 +68,20 @@ class ProblemsList(QListWidget):
         self._target_lines: list[tuple[str, str, int]] = []  # (id, line, status)
         self._move_lines: list[tuple[tuple[str, str, str], str]] = []
         self._shown: list[tuple[_Key, str]] = []
-        self._lines_of: dict[str, tuple[object, str, bool, str]] = {}
+        self._names_of: tuple = ()
+        self._names: dict[str, str] = {}
+        self._order: dict[str, int] = {}
+        self._per_arm: dict[str, tuple] = {}
+        self._brushes: dict[object, QBrush] = {}
+        self._selection_key: tuple | None = None
         self._moves_stale = False
         self._count = -1
         self.setObjectName("problems_list")
         self.setSelectionMode(QAbstractItemView.SelectionMode.ExtendedSelection)
         self.setWordWrap(True)
         self.setUniformItemSizes(False)
+        # Lay long lists out in batches between events rather than all at once per change.
+        self.setLayoutMode(QListView.LayoutMode.Batched)
         self.setSpacing(3)
         self.itemClicked.connect(self._on_clicked)
         self.itemActivated.connect(self._on_clicked)
@@ -131,32 +139,43 @@ class ProblemsList(QListWidget):
     def _compute_targets(self, plain: bool) -> list[tuple[str, str, int]]:
         """(id, line, status) of every failing target, in the cell's order.
 
-        Lines are kept per target while its arm's evaluation and its name stay the same.
+        Only failing targets are visited (per arm, from the evaluation's arrays); an arm's
+        lines are kept while its evaluation, the names and the wording stay the same.
         """
         evaluation = self.document.evaluation
         cell = evaluation.cell
-        out = []
-        keep: dict[str, tuple[object, str, bool, str]] = {}
-        for t in cell.targets:
-            try:
-                ev, i = evaluation.locate(t.id)
-            except KeyError:
-                line = f"✕ {t.id} {t.name} — assigned to missing arm {t.arm!r}"
-                out.append((t.id, line, int(Status.BEYOND_REACH)))
-                continue
-            if bool(ev.feasible[i]):
-                continue
-            hit = self._lines_of.get(t.id)
-            if hit is not None and hit[0] is ev and hit[2] == plain and hit[3] == t.name:
-                line = hit[1]
+        names = {t.id: t.name for t in cell.targets} if self._names_of is not cell.targets else None
+        if names is not None:
+            self._names_of, self._names = cell.targets, names
+            self._order = {t.id: k for k, t in enumerate(cell.targets)}
+            self._per_arm = {}
+        rows: list[tuple[int, str, str, int]] = []
+        per_arm = {}
+        for aid, ev in evaluation.arms.items():
+            hit = self._per_arm.get(aid)
+            if hit is not None and hit[0] is ev and hit[1] == plain:
+                lines = hit[2]
             else:
-                st = int(ev.status[i])
-                reason = target_reason(ev, i, cell.units, "plain" if plain else "full")
-                line = f"{status_style(st).glyph} {t.id} {t.name} — {reason}"
-            keep[t.id] = (ev, line, plain, t.name)
-            out.append((t.id, line, int(ev.status[i])))
-        self._lines_of = keep
-        return out
+                lines = []
+                status = ev.status
+                for i in np.flatnonzero(~np.asarray(ev.feasible, dtype=bool)).tolist():
+                    tid = ev.target_ids[i]
+                    st = int(status[i])
+                    reason = target_reason(ev, i, cell.units, "plain" if plain else "full")
+                    line = f"{status_style(st).glyph} {tid} {self._names[tid]} — {reason}"
+                    lines.append((self._order[tid], tid, line, st))
+            per_arm[aid] = (ev, plain, lines)
+            rows.extend(lines)
+        self._per_arm = per_arm
+        if sum(len(ev.target_ids) for ev in evaluation.arms.values()) != len(cell.targets):
+            for t in cell.targets:
+                try:
+                    evaluation.locate(t.id)
+                except KeyError:
+                    line = f"✕ {t.id} {t.name} — assigned to missing arm {t.arm!r}"
+                    rows.append((self._order[t.id], t.id, line, int(Status.BEYOND_REACH)))
+        rows.sort()
+        return [(tid, line, st) for _k, tid, line, st in rows]
 
     def _compute_moves(self) -> list[tuple[tuple[str, str, str], str]]:
         cell = self.document.cell
@@ -167,17 +186,26 @@ class ProblemsList(QListWidget):
     def _wanted(self) -> list[tuple[_Key, str, QBrush | None, str]]:
         out: list[tuple[_Key, str, QBrush | None, str]] = []
         for tid, line, st in self._target_lines:
-            colour = QColor(status_style(st).colour).darker(150)
-            out.append((("t", tid), line, QBrush(colour), line))
+            out.append((("t", tid), line, self._brush(st), line))
         for key, line in self._move_lines:
             collides = line.startswith(status_style(Status.COLLISION).glyph)
-            colour = QColor(status_style(Status.COLLISION if collides else Status.Q2_LIMIT).colour)
+            brush = self._brush(int(Status.COLLISION if collides else Status.Q2_LIMIT))
             tip = f"{line}\nClick to select and show both targets of the move."
-            out.append((("m", "\0".join(key)), line, QBrush(colour.darker(150)), tip))
+            out.append((("m", "\0".join(key)), line, brush, tip))
         if not out:
             text = NO_PROBLEMS if self.document.cell.targets else NO_TARGETS
-            out.append((("none", ""), text, QBrush(QColor(PALETTE["pine"]).darker(130)), text))
+            out.append((("none", ""), text, self._brush("ok"), text))
         return out
+
+    def _brush(self, status: int | str) -> QBrush:
+        b = self._brushes.get(status)
+        if b is None:
+            if status == "ok":
+                b = QBrush(QColor(PALETTE["pine"]).darker(130))
+            else:
+                b = QBrush(QColor(status_style(int(status)).colour).darker(150))
+            self._brushes[status] = b
+        return b
 
     def _show(self) -> None:
         wanted = self._wanted()
@@ -256,6 +284,10 @@ class ProblemsList(QListWidget):
         if self._guard:
             return
         chosen = set(self.document.selection.ids)
+        key = (frozenset(chosen), tuple(k for k, _ in self._shown))
+        if key == self._selection_key:
+            return  # the same selection over the same entries (the common case in a drag)
+        self._selection_key = key
         with self._guard, blocked(self):
             for i in range(self.count()):
                 it = self.item(i)

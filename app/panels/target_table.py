@@ -13,7 +13,6 @@ from typing import Any
 
 import numpy as np
 from PySide6.QtCore import (
-    QAbstractTableModel,
     QItemSelection,
     QItemSelectionModel,
     QModelIndex,
@@ -22,7 +21,7 @@ from PySide6.QtCore import (
     Qt,
     Signal,
 )
-from PySide6.QtGui import QBrush, QColor, QFont
+from PySide6.QtGui import QBrush, QColor, QFont, QStandardItem, QStandardItemModel
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -127,9 +126,6 @@ _EDIT_LABELS = {
 }
 
 
-_ROOT = QModelIndex()
-
-
 @dataclass
 class _Row:
     id: str
@@ -216,6 +212,32 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
     return _Row(t.id, text, sort, st, bool(ev.feasible[i]), tip, allowed)
 
 
+_RIGHT = int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+_STATUS_BRUSHES: dict[int, QBrush] = {}
+_LOOKS: dict[str, tuple[QBrush, QFont]] = {}
+
+
+def _font(bold: bool = False, italic: bool = False) -> QFont:
+    f = QFont()
+    f.setBold(bold)
+    f.setItalic(italic)
+    return f
+
+
+def _status_brush(status: int) -> QBrush:
+    b = _STATUS_BRUSHES.get(status)
+    if b is None:
+        b = QBrush(QColor(status_style(status).colour).darker(130))
+        _STATUS_BRUSHES[status] = b
+    return b
+
+
+def _init_looks() -> None:
+    if not _LOOKS:
+        _LOOKS["forbidden"] = (QBrush(QColor(PALETTE["slate"])), _font(italic=True))
+        _LOOKS["collision"] = (_status_brush(int(Status.COLLISION)), _font(bold=True))
+
+
 def _changed_rows(old: Any, new: Any) -> set[int] | None:
     """Indices (in the arm's target order) whose verdict differs between two evaluations of
     one arm, None when the arrays are not comparable (then every row of the arm changed)."""
@@ -242,12 +264,13 @@ def _changed_rows(old: Any, new: Any) -> set[int] | None:
     return set(np.flatnonzero(diff).tolist())
 
 
-class TargetTableModel(QAbstractTableModel):
+class TargetTableModel(QStandardItemModel):
     """Table model over the document's targets and their evaluation.
 
-    Rows are formatted when the view asks for them (only the visible ones are painted)
-    and kept until their target or its verdict changes; a change tells the view only
-    about the rows it touched.
+    The texts live in Qt's own item store, so painting a cell never calls into Python.
+    A change updates only the rows whose target or verdict changed, and while a drag
+    steps only those of them the view shows (the rest when the changes pause or when they
+    scroll into view).
 
     Signals
     -------
@@ -259,59 +282,128 @@ class TargetTableModel(QAbstractTableModel):
 
     def __init__(self, document: Document, parent: Any = None) -> None:
         super().__init__(parent)
+        _init_looks()
         self.document = document
         self._ids: list[str] = []
         self._row_of: dict[str, int] = {}
-        self._cache: dict[int, _Row] = {}
+        self._stale: set[int] = set()
         self._evaluation = document.evaluation
+        #: Which source rows the view shows (set by the view; default: every row).
+        self.visible_rows = lambda: range(len(self._ids))
         #: Rows formatted so far (for tests of the lazy formatting).
         self.formatted = 0
+        self.setColumnCount(len(COLUMNS))
+        self._set_headers()
         self._rebuild()
         document.events.cell_changed.connect(self._on_cell_changed)
+        document.events.changes_paused.connect(self.refresh_stale)
 
     # ------------------------------------------------------------------ contents
+
+    def _set_headers(self) -> None:
+        for c, col in enumerate(COLUMNS):
+            item = QStandardItem(self._header_text(col))
+            item.setToolTip(col.tip)
+            self.setHorizontalHeaderItem(c, item)
+
+    def _header_text(self, col: Column) -> str:
+        units = self.document.cell.units
+        # Units on a second line keep the numeric columns narrow.
+        if col.key in ("x", "y", "clear_p", "clear_n"):
+            return f"{col.header}\n({units})"
+        if col.key in ("q1p", "q2p", "q1n", "q2n"):
+            return f"{col.header}\n(°)"
+        return {
+            "nearest": "nearest fixture\n(chosen)",
+            "limit": "limit\nmargin (°)",
+            "reach": f"reach\nmargin ({units})",
+            "manip": f"manipu-\nlability ({units}²)",
+        }.get(col.key, col.header)
 
     def _rebuild(self) -> None:
         self._evaluation = self.document.evaluation
         self._ids = [t.id for t in self.document.cell.targets]
         self._row_of = {tid: r for r, tid in enumerate(self._ids)}
-        self._cache = {}
+        self.setRowCount(0)
+        self.setRowCount(len(self._ids))
+        for r in range(len(self._ids)):
+            self._fill(r)
+        self._stale = set()
 
-    def _get(self, r: int) -> _Row:
-        row = self._cache.get(r)
-        if row is None:
-            cell = self.document.cell
-            row = _row(cell, self._evaluation, cell.targets[r])
-            self._cache[r] = row
-            self.formatted += 1
-        return row
+    def _fill(self, r: int) -> None:
+        """Write row ``r``'s texts, looks and sort values into the item store."""
+        cell = self.document.cell
+        row = _row(cell, self._evaluation, cell.targets[r])
+        self.formatted += 1
+        for c, (key, col) in enumerate(zip(_KEYS, COLUMNS, strict=True)):
+            item = self.item(r, c)
+            if item is None:
+                item = QStandardItem()
+                flags = Qt.ItemFlag.ItemIsSelectable | Qt.ItemFlag.ItemIsEnabled
+                if col.editable:
+                    flags |= Qt.ItemFlag.ItemIsEditable
+                item.setFlags(flags)
+                if col.numeric:
+                    item.setData(_RIGHT, Qt.ItemDataRole.TextAlignmentRole)
+                self.setItem(r, c, item)
+            for role, value in _cell_roles(row, c, key).items():
+                item.setData(value, role)
+        self.item(r, 0).setData(row.id, ID_ROLE)
 
     def _on_cell_changed(self, changes: Changes) -> None:
         cell = self.document.cell
         if changes.structure or len(self._ids) != len(cell.targets):
             self.beginResetModel()
-            self._rebuild()
+            self.blockSignals(True)
+            try:
+                self._rebuild()
+            finally:
+                self.blockSignals(False)
             self.endResetModel()
             return
         old, new = self._evaluation, self.document.evaluation
         self._evaluation = new
         rows: set[int] = {self._row_of[t] for t in changes.targets if t in self._row_of}
-        every = bool(changes.other and (cell.units != old.cell.units))
         for aid, ev in new.arms.items():
-            prev = old.arms.get(aid)
-            changed = _changed_rows(prev, ev)
+            changed = _changed_rows(old.arms.get(aid), ev)
             idx = range(len(ev.target_ids)) if changed is None else changed
             rows.update(self._row_of[ev.target_ids[i]] for i in idx)
-        if every:
+        if changes.other and cell.units != old.cell.units:
             rows = set(range(len(self._ids)))
-        for r in rows:
-            self._cache.pop(r, None)
-        if rows:
-            # One signal for the span of changed rows: the view repaints what it shows.
-            last = len(COLUMNS) - 1
-            self.dataChanged.emit(self.index(min(rows), 0), self.index(max(rows), last))
+        self._stale |= rows
+        if self.document.unsettled:
+            # A drag step: the rows shown now; the others when they are shown or at the pause.
+            self.refresh_rows(self.visible_rows())
+        else:
+            self.refresh_stale()
         if changes.other:
-            self.headerDataChanged.emit(Qt.Orientation.Horizontal, 0, len(COLUMNS) - 1)
+            self._set_headers()
+
+    def refresh_rows(self, rows) -> None:
+        """Bring these rows up to date if they are stale."""
+        todo = sorted(self._stale.intersection(rows))
+        if not todo:
+            return
+        self._stale.difference_update(todo)
+        self._update(todo)
+
+    def refresh_stale(self) -> None:
+        """Bring every stale row up to date (the changes paused)."""
+        todo = sorted(self._stale)
+        self._stale = set()
+        self._update(todo)
+
+    def _update(self, rows: list[int]) -> None:
+        if not rows:
+            return
+        # One signal for the span instead of one per cell: the view repaints what it shows.
+        self.blockSignals(True)
+        try:
+            for r in rows:
+                self._fill(r)
+        finally:
+            self.blockSignals(False)
+        self.dataChanged.emit(self.index(rows[0], 0), self.index(rows[-1], len(COLUMNS) - 1))
 
     def target_id(self, row: int) -> str:
         """Id of the target in a (source) row."""
@@ -321,92 +413,13 @@ class TargetTableModel(QAbstractTableModel):
         """Source row of a target, -1 when there is none."""
         return self._row_of.get(target_id, -1)
 
-    # ------------------------------------------------------------------ Qt model API
-
-    def rowCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
-        return 0 if parent.isValid() else len(self._ids)
-
-    def columnCount(self, parent: QModelIndex | QPersistentModelIndex = _ROOT) -> int:
-        return 0 if parent.isValid() else len(COLUMNS)
-
-    def headerData(self, section: int, orientation: Qt.Orientation, role: int = 0) -> Any:
-        if orientation != Qt.Orientation.Horizontal or not 0 <= section < len(COLUMNS):
-            return None
-        col = COLUMNS[section]
-        if role == Qt.ItemDataRole.DisplayRole:
-            units = self.document.cell.units
-            # Units on a second line keep the numeric columns narrow.
-            if col.key in ("x", "y"):
-                return f"{col.header}\n({units})"
-            if col.key in ("q1p", "q2p", "q1n", "q2n"):
-                return f"{col.header}\n(°)"
-            if col.key in ("clear_p", "clear_n"):
-                return f"{col.header}\n({units})"
-            if col.key == "nearest":
-                return "nearest fixture\n(chosen)"
-            if col.key == "limit":
-                return "limit\nmargin (°)"
-            if col.key == "reach":
-                return f"reach\nmargin ({units})"
-            if col.key == "manip":
-                return f"manipu-\nlability ({units}²)"
-            return col.header
-        if role == Qt.ItemDataRole.ToolTipRole:
-            return col.tip
-        return None
-
-    def data(self, index: QModelIndex | QPersistentModelIndex, role: int = 0) -> Any:
-        if not index.isValid():
-            return None
-        c = index.column()
-        key = _KEYS[c]
-        if role == ID_ROLE:
-            return self._ids[index.row()]
-        row = self._get(index.row())
-        if role == Qt.ItemDataRole.DisplayRole:
-            return row.text[c]
-        if role == Qt.ItemDataRole.EditRole:
-            t = self.document.cell.targets[index.row()]
-            if key in ("x", "y"):
-                return format_number(getattr(t, key))
-            return row.text[c]
-        if role == SORT_ROLE:
-            return row.sort[c]
-        forbidden = key in _Q_COLUMNS and not row.allowed[0 if key.endswith("p") else 1]
-        if role == Qt.ItemDataRole.ToolTipRole and forbidden:
-            return f"{row.text[c]}: not allowed by the arm's elbow setting"
-        if role == Qt.ItemDataRole.ToolTipRole and key in ("id", "name", "status", "nearest"):
-            return row.tip if key == "status" and row.tip else row.text[c]
-        if forbidden and role == Qt.ItemDataRole.ForegroundRole:
-            return QBrush(QColor(PALETTE["slate"]))
-        if forbidden and role == Qt.ItemDataRole.FontRole:
-            f = QFont()
-            f.setItalic(True)
-            return f
-        if role == Qt.ItemDataRole.TextAlignmentRole and COLUMNS[c].numeric:
-            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
-        if key in ("clear_p", "clear_n", "nearest") and "✕" in row.text[c]:
-            # Collisions: bold and the status colour, besides the ✕ mark.
-            if role == Qt.ItemDataRole.ForegroundRole:
-                return QBrush(QColor(status_style(Status.COLLISION).colour).darker(130))
-            if role == Qt.ItemDataRole.FontRole:
-                f = QFont()
-                f.setBold(True)
-                return f
-        if key == "status":
-            if role == Qt.ItemDataRole.ForegroundRole:
-                return QBrush(QColor(status_style(row.status).colour).darker(130))
-            if role == Qt.ItemDataRole.FontRole and not row.feasible:
-                f = QFont()
-                f.setBold(True)
-                return f
-        return None
-
-    def flags(self, index: QModelIndex | QPersistentModelIndex) -> Qt.ItemFlag:
-        base = super().flags(index)
-        if index.isValid() and COLUMNS[index.column()].editable:
-            return base | Qt.ItemFlag.ItemIsEditable
-        return base
+    def edit_text(self, row: int, column: int) -> str:
+        """What an editor of a cell starts with: coordinates exactly, not as shown."""
+        key = _KEYS[column]
+        t = self.document.cell.targets[row]
+        if key in ("x", "y"):
+            return format_number(getattr(t, key))
+        return str(self.item(row, column).text())
 
     def setData(
         self, index: QModelIndex | QPersistentModelIndex, value: Any, role: int = 2
@@ -429,6 +442,39 @@ class TargetTableModel(QAbstractTableModel):
             label = f"Assign {target.id} to {changed.arm}"
         self.document.edit(label, new_cell)
         return True
+
+
+def _cell_roles(row: _Row, c: int, key: str) -> dict[int, Any]:
+    """Every role's value of one cell (display, tooltip, looks, sort)."""
+    D, T = Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.ToolTipRole
+    F, B = Qt.ItemDataRole.FontRole, Qt.ItemDataRole.ForegroundRole
+    text = row.text[c]
+    cell: dict[int, Any] = {D: text, SORT_ROLE: row.sort[c], T: None, F: None, B: None}
+    forbidden = key in _Q_COLUMNS and not row.allowed[0 if key.endswith("p") else 1]
+    if forbidden:
+        cell[T] = f"{text}: not allowed by the arm's elbow setting"
+        cell[B], cell[F] = _LOOKS["forbidden"]
+    elif key in ("id", "name", "status", "nearest"):
+        cell[T] = row.tip if key == "status" and row.tip else text
+    if not forbidden and key in ("clear_p", "clear_n", "nearest") and "✕" in text:
+        # Collisions: bold and the status colour, besides the ✕ mark.
+        cell[B], cell[F] = _LOOKS["collision"]
+    if key == "status":
+        cell[B] = _status_brush(row.status)
+        cell[F] = _LOOKS["collision"][1] if not row.feasible else None
+    return cell
+
+
+class _ExactDelegate(QStyledItemDelegate):
+    """Editors of x and y start from the exact coordinate, not the rounded text shown."""
+
+    def __init__(self, table: TargetTable) -> None:
+        super().__init__(table)
+        self._table = table
+
+    def setEditorData(self, editor: QWidget, index: QModelIndex) -> None:
+        src = self._table.proxy.mapToSource(index)
+        editor.setText(self._table.source.edit_text(src.row(), src.column()))
 
 
 class _ArmDelegate(QStyledItemDelegate):
@@ -484,6 +530,9 @@ class TargetTable(QTableView):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(False)
         self.setItemDelegateForColumn(_KEYS.index("arm"), _ArmDelegate(document, self))
+        self._exact = _ExactDelegate(self)
+        for key in ("x", "y"):
+            self.setItemDelegateForColumn(_KEYS.index(key), self._exact)
         self.fit_columns()
 
         self.selectionModel().selectionChanged.connect(self._on_view_selection)
@@ -492,7 +541,29 @@ class TargetTable(QTableView):
         document.selection.changed.connect(lambda _ids: self._show_selection())
         # Rows keep their places while a drag steps; the sort order catches up at the pause.
         document.events.cell_changed.connect(self._hold_order)
+        # Rows updated while a drag steps are the ones shown; others follow when shown.
+        self.source.visible_rows = self.visible_source_rows
+        self.verticalScrollBar().valueChanged.connect(self._show_rows)
         document.events.changes_paused.connect(lambda: self.proxy.setDynamicSortFilter(True))
+
+    def visible_source_rows(self) -> list[int]:
+        """Source rows the view shows now (a few beyond, so scrolling meets no stale row)."""
+        n = self.proxy.rowCount()
+        if n == 0 or not self.isVisible():
+            return []
+        first = self.rowAt(0)
+        last = self.rowAt(self.viewport().height() - 1)
+        first = 0 if first < 0 else max(0, first - 2)
+        last = n - 1 if last < 0 else min(n - 1, last + 2)
+        proxy = self.proxy
+        return [proxy.mapToSource(proxy.index(r, 0)).row() for r in range(first, last + 1)]
+
+    def _show_rows(self, *_args: Any) -> None:
+        self.source.refresh_rows(self.visible_source_rows())
+
+    def resizeEvent(self, event) -> None:  # noqa: N802 (Qt name)
+        super().resizeEvent(event)
+        self._show_rows()
 
     def _hold_order(self, _changes: Changes) -> None:
         if self.document.previewing and self.proxy.dynamicSortFilter():

@@ -92,7 +92,6 @@ class CollisionsLayer:
         host.add(self.hit_item, Z["hit_edge"], cache=True)
         self._hit_key: tuple = ()
         self.notes: list[Note] = []
-        self._notes_key: tuple | None = None
         self._ids: dict[str, tuple[str, ...]] = {}
         self._fixtures: dict[str, tuple] = {}
         self._bodies: dict[str, tuple[str, ...]] = {}
@@ -140,16 +139,18 @@ class CollisionsLayer:
             self._sets[arm.id] = cs
             for role, mask in (("fails", cs.fails), ("other", ~cs.fails)):
                 item = self._item(arm.id, role)
-                rows = np.flatnonzero(mask)
-                if not len(rows):
+                if not mask.any():
                     item.setPath(QPainterPath())
                     continue
-                parts = [cs.rings.ring(int(k)) for k in rows]
-                if frame.draft and all(len(p) == 2 for p in parts):
-                    item.setPath(polylines_path(np.stack(parts)))
+                if frame.draft:
+                    # Centre segments of links (and the outline of a tool disc or outline).
+                    path = polylines_path(cs.segments(mask))
+                    rest = [(r, a) for r, a in cs.groups if a.shape[1] != 2]
+                    if rest:
+                        path.addPath(rings_path(_rings(rest, mask)))
+                    item.setPath(path)
                 else:
-                    rings = rings_from_arrays(parts)
-                    item.setPath(rings_path(rings, Qt.FillRule.WindingFill))
+                    item.setPath(rings_path(cs.rings(mask), Qt.FillRule.WindingFill))
             if not frame.draft:
                 self.contacts.set_group(arm.id, cs.contacts, (~cs.fails).astype(np.int64))
             else:
@@ -183,9 +184,10 @@ class CollisionsLayer:
         return out
 
     def mark_hits(
-        self, frame: Frame, move_lines: dict[str, list[str]] | None = None, live: bool = False
+        self, frame: Frame, move_lines: dict[str, list[str]] | None = None, notes: bool = True
     ) -> None:
-        """Thick dashed edges on every hit fixture and the notes naming what hits them."""
+        """Thick dashed edges on every hit fixture and (with ``notes``) the notes naming
+        what hits them."""
         cell = frame.cell
         self._ids = {aid: ev.target_ids for aid, ev in frame.evaluation.arms.items()}
         self._fixtures = {aid: ev.fixtures for aid, ev in frame.evaluation.arms.items()}
@@ -204,10 +206,8 @@ class CollisionsLayer:
             for fid in hit_ids:
                 path.addPath(polygon_path(by_id[fid].outline))
             self.hit_item.setPath(path)
-        notes_key = (tuple(sorted((k, tuple(v)) for k, v in hits.items())), str(move_lines))
-        if live and notes_key == self._notes_key:
-            return  # drag steps mostly hit the same fixtures: keep the notes
-        self._notes_key = notes_key
+        if not notes:
+            return
         names = {t.id: t.name for t in cell.targets}
         arm_names = {a.id: a.name for a in cell.arms}
         texts = {}
@@ -248,6 +248,10 @@ class CollisionsLayer:
     def label_texts(self) -> dict[str, str]:
         """Fixture id -> note text shown."""
         return {n.key[1]: n.text for n in self.notes}
+
+
+def _rings(groups, mask):
+    return rings_from_arrays([a for rows, arr in groups for a in arr[mask[rows]]])
 
 
 def _box(outline) -> tuple[float, float, float, float]:

@@ -59,9 +59,7 @@ def ghost_masks(ev, show: np.ndarray) -> dict[int, dict[str, np.ndarray]]:
     # Any other failing target in reach shows the configuration that comes closest.
     others = show & ~np.asarray(ev.feasible, dtype=bool) & np.asarray(ik.reachable, dtype=bool)
     others &= status != int(Status.COLLISION)
-    closest = np.full(n, -1)
-    for i in np.flatnonzero(others).tolist():
-        closest[i] = ev.closest(i)
+    closest = np.where(others, ev.closest_all, -1)
     out = {}
     for c in (0, 1):
         out[c] = {

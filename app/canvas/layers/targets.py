@@ -14,7 +14,16 @@ import numpy as np
 import pyqtgraph as pg
 from pyqtgraph.graphicsItems.ScatterPlotItem import drawSymbol
 from PySide6.QtCore import QPointF, QRectF
-from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QImage, QPainter, QPen, QTransform
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QImage,
+    QPainter,
+    QPen,
+    QTransform,
+)
 
 from app import style
 from kinematics.ik import Status
@@ -221,8 +230,8 @@ class MarkersItem(_ImageLayer):
         for st in np.unique(status):
             img = self._symbol(int(st), dpr)
             half = img.width() / dpr / 2
-            for x, y in dev[status == st]:
-                painter.drawImage(QPointF(x - half, y - half), img)
+            for x, y in (dev[status == st] - half).tolist():
+                painter.drawImage(QPointF(x, y), img)
 
 
 class LabelsItem(pg.GraphicsObject):
@@ -593,6 +602,7 @@ class TargetsLayer:
         host.add(self.labels, Z["label"])
         self._reasons: dict[str, tuple[object, bool, list[str]]] = {}
         self._names_key: tuple | None = None
+        self._names_of: tuple | None = None
         self._names: dict[str, str] = {}
         self._shown_selection: tuple = ("\0",)
         self.xy = np.zeros((0, 2))
@@ -615,11 +625,13 @@ class TargetsLayer:
 
     def update(self, frame: Frame) -> None:
         cell, evaluation = frame.cell, frame.evaluation
-        key = tuple((t.id, t.name) for t in cell.targets)
-        if key != self._names_key:
-            self._names_key = key
-            self._names = dict(key)
-            frame.arms = None  # renamed targets: every arm's labels
+        if cell.targets is not self._names_of:
+            key = tuple((t.id, t.name) for t in cell.targets)
+            self._names_of = cell.targets
+            if key != self._names_key:
+                self._names_key = key
+                self._names = dict(key)
+                frame.arms = None  # renamed targets: every arm's labels
         xy_parts, st_parts, ids, groups = [], [], [], []
         for aid, ev in evaluation.arms.items():
             groups.append(aid)
