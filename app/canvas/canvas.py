@@ -189,7 +189,7 @@ class CellCanvas(QWidget):
         self.vb.sigRangeChanged.connect(lambda *_a: self.notes.layout())
         # The arms at the playback time, while a view showing the playback is open.
         self.playback = PlaybackLayer(self, playback_clock(document))
-        self.playback.clock.active_changed.connect(lambda _on: self._refresh_legend(self._frame))
+        self.playback.clock.active_changed.connect(lambda _on: self.refresh(all_arms=True))
 
         self._tool_item = QGraphicsPathItem()
         self._tool_item.setPen(cosmetic_pen(style.INK, 1.5, "dash"))
@@ -550,7 +550,7 @@ class CellCanvas(QWidget):
         self.playback.update(frame)
         self.collisions.mark_hits(frame, self.swept.hits, live=frame.draft)
         self.notes.set(
-            self.collisions.notes + self.swept.notes + self.spaces.notes,
+            self.collisions.notes + self.swept.notes + self.spaces.notes + self.playback.notes,
             relayout=not frame.draft,
         )
         self._drawn = dict(evaluation.arms)

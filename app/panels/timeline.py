@@ -230,8 +230,7 @@ class TimelinePanel(QWidget):
         # ---- left column: controls and words
         self.play_button = QPushButton("▶ Play")
         self.play_button.setObjectName("timeline_play")
-        self.play_button.setToolTip("Play or pause the arms' cycles together (Space)")
-        self.play_button.setShortcut(Qt.Key.Key_Space)
+        self.play_button.setToolTip("Play or pause the arms' cycles together")
         self.play_button.clicked.connect(self.clock.toggle)
         self.rate_box = QComboBox()
         self.rate_box.setObjectName("timeline_rate")
@@ -515,7 +514,8 @@ class TimelinePanel(QWidget):
                 pen=cosmetic_pen(style.PALETTE["ember"], 2.0, "dash"),
                 label=f"⊗ arms touch {c.time_s:.3f} s",
                 labelOpts={
-                    "position": 0.02,
+                    # Along the line from the top (lanes run downwards): lane 0, the marks.
+                    "position": 0.5 / max(y, 2),
                     "color": style.INK,
                     "fill": pg.mkBrush(colour(style.PAPER, 0.9)),
                     "anchors": [(0, 0.5), (0, 0.5)],

@@ -39,6 +39,7 @@ from ..paths import polylines_path, rings_path
 from ..qtstyle import colour, cosmetic_pen
 from . import Frame, Host, Z
 from .collisions import CONTACT_SYMBOL
+from .notes import Note
 
 __all__ = ["PlaybackLayer", "CONTACT_MARK_PX", "SLOWEST_PEN", "body_pen", "body_brush"]
 
@@ -77,7 +78,10 @@ class PlaybackLayer:
         self._links: dict[str, QGraphicsPathItem] = {}
         self._joints: dict[str, QGraphicsPathItem] = {}
         self._marks: list[tuple[QGraphicsPathItem, pg.TextItem]] = []
-        self._slow: list[tuple[QGraphicsPathItem, QGraphicsPathItem, pg.TextItem]] = []
+        self._slow: list[tuple[QGraphicsPathItem, QGraphicsPathItem]] = []
+        self._slow_wanted: list[tuple[str, int, np.ndarray, str]] = []
+        #: Notes naming each cycle's slowest move (laid out by the canvas's note layer).
+        self.notes: list[Note] = []
         self._colours: dict[str, str] = {}
         self._slow_key: object = None
         self._poses: dict[str, Any] = {}
@@ -122,11 +126,10 @@ class PlaybackLayer:
         for mark, label in self._marks:
             mark.setVisible(False)
             label.setVisible(False)
-        for band, line, label in self._slow:
+        for band, line in self._slow:
             band.setVisible(False)
             line.setVisible(False)
-            label.setVisible(False)
-        self._poses, self._contacts = {}, ()
+        self._poses, self._contacts, self.notes = {}, (), []
 
     def redraw(self) -> None:
         """Pose every running arm at the clock's time (or hide them)."""
@@ -217,15 +220,16 @@ class PlaybackLayer:
             self._slow_key = key
             cell = self.clock.document.cell
             runs = sequence_runs(cell, self.clock.document.evaluation, motion)
-            wanted = []
+            self._slow_wanted = []
             for run in runs:
                 k = slowest_segment(run.plan)
                 if k is None or len(run.plan.segments) < 2:
                     continue
                 xy = move_tool_path(run.timeline, k)
                 seg = run.plan.segments[k]
-                wanted.append((xy, f"{run.plan.arm}: slowest move, {seconds(seg.time_s)}"))
-            while len(self._slow) < len(wanted):
+                text = f"{run.plan.arm}: slowest move, {seconds(seg.time_s)}"
+                self._slow_wanted.append((run.plan.arm, k, xy, text))
+            while len(self._slow) < len(self._slow_wanted):
                 band, line = QGraphicsPathItem(), QGraphicsPathItem()
                 band.setPen(_SLOWEST_BAND)
                 line.setPen(SLOWEST_PEN)
@@ -233,26 +237,23 @@ class PlaybackLayer:
                 line.setData(0, "playback.slowest")
                 self._host.add(band, _Z_SLOW)
                 self._host.add(line, _Z_SLOW + 0.1)
-                label = pg.TextItem("", color=style.INK, anchor=(0.5, -0.4))
-                label.setData(0, "playback.slowest.label")
-                self._host.add(label, Z["label"] - 0.5)
-                self._slow.append((band, line, label))
-            for k, (band, line, label) in enumerate(self._slow):
-                if k >= len(wanted):
-                    for it in (band, line, label):
-                        it.setVisible(False)
-                    continue
-                xy, text = wanted[k]
-                path = polylines_path(xy[None, :, :])
+                self._slow.append((band, line))
+            for k, (band, line) in enumerate(self._slow):
+                path = QPainterPath()
+                if k < len(self._slow_wanted):
+                    path = polylines_path(self._slow_wanted[k][2][None, :, :])
                 band.setPath(path)
                 line.setPath(path)
-                mid = xy[len(xy) // 2]
-                label.setText(text)
-                label.setPos(QPointF(float(mid[0]), float(mid[1])))
-        for band, line, label in self._slow:
+        for band, line in self._slow:
             on = bool(line.path().elementCount())
-            for it in (band, line, label):
-                it.setVisible(on)
+            band.setVisible(on)
+            line.setVisible(on)
+        notes = []
+        for aid, k, xy, text in self._slow_wanted:
+            x, y = (float(v) for v in xy[len(xy) // 2])
+            tag = f"playback.slowest.label:{aid}"
+            notes.append(Note(("slowest", aid, k), text, tag, style.INK, (x, y, x, y), 3))
+        self.notes = notes
 
     # ------------------------------------------------------------------ legend, reading
 
@@ -314,4 +315,5 @@ class PlaybackLayer:
         return out
 
     def slowest_labels(self) -> list[str]:
-        return [lab.toPlainText() for _b, line, lab in self._slow if line.isVisible()]
+        """Texts of the slowest-move notes while shown."""
+        return [n.text for n in self.notes]
