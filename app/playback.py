@@ -144,8 +144,8 @@ class PlaybackClock(QObject):
         self.seek(t)
 
     def play(self) -> None:
-        """Start playing (only while a view shows it and there is a run)."""
-        if self.playing or not self._active or not self.horizon:
+        """Start playing (only while a view shows it and its run is up to date)."""
+        if self.playing or not self._active or self._stale or not self.horizon:
             return
         if self.horizon is not None and self._time >= self.horizon:
             self.seek(0.0)

@@ -206,6 +206,8 @@ def test_out_of_date_while_a_drag_steps_then_rebuilt_at_the_pause(qtbot):
     doc.preview(replace(cell, arms=(cell.arms[0], moved)))
     assert panel.stale_label.isVisible() and panel.stale_label.text() == OUT_OF_DATE
     assert panel.bars("inside") == before  # kept until the pause, not recomputed per step
+    panel.play_button.click()
+    assert not panel.clock.playing  # nothing plays while the run is out of date
     doc.settle()
     assert not panel.stale_label.isVisible()
     it = doc.evaluation.interference()
