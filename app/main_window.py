@@ -50,6 +50,7 @@ from app.panels.arm_panel import ArmPanel
 from app.panels.problems import ProblemsList
 from app.panels.target_table import TargetTable
 from app.panels.text import cursor_text, hover_text, summary_text
+from app.panels.timeline import TimelinePanel
 from app.pause import pause_timer
 from kinematics.caution import CAUTION_FULL, CAUTION_SHORT
 from kinematics.cell import Arm, Cell
@@ -69,6 +70,8 @@ __all__ = [
 
 #: Unsaved work is autosaved after this many edits (undo and redo count), besides the timer.
 AUTOSAVE_EDITS = 50
+#: Height the bottom docks grow to when the timeline is first shown (pixels, at most).
+TIMELINE_PX = 400
 
 APP_TITLE = "Elbow Room"
 CELL_SUFFIX = ".cell.json"
@@ -170,6 +173,16 @@ class MainWindow(QMainWindow):
         self.table_dock = self._dock(
             "Targets", "table_dock", self.target_table, Qt.DockWidgetArea.BottomDockWidgetArea
         )
+        # The cycles over time, a tab beside the targets (the playback runs while it shows).
+        self.timeline = TimelinePanel(self.document)
+        self.timeline_dock = self._dock(
+            "Timeline", "timeline_dock", self.timeline, Qt.DockWidgetArea.BottomDockWidgetArea
+        )
+        self.tabifyDockWidget(self.table_dock, self.timeline_dock)
+        self.table_dock.raise_()
+        self.timeline.attach_dock(self.timeline_dock)
+        self._timeline_grown = False
+        self.timeline_dock.visibilityChanged.connect(self._on_timeline_visible)
         # The arm panel runs full height; the table spans under the canvas and the problems.
         self.setCorner(Qt.Corner.BottomLeftCorner, Qt.DockWidgetArea.LeftDockWidgetArea)
         self.setCorner(Qt.Corner.BottomRightCorner, Qt.DockWidgetArea.BottomDockWidgetArea)
@@ -191,6 +204,7 @@ class MainWindow(QMainWindow):
         self.problems.zoom_requested.connect(lambda tid: self.canvas.zoom_to(tid))
         self.problems.zoom_targets_requested.connect(self.canvas.zoom_to_targets)
         self.problems.count_changed.connect(self._on_problem_count)
+        self.problems.time_requested.connect(self.show_time)
         self.target_table.source.refused.connect(
             lambda msg: self.statusBar().showMessage(msg, 8000)
         )
@@ -327,7 +341,7 @@ class MainWindow(QMainWindow):
             submenus[title].addAction(act)
         submenus[_ACTION_GROUPS["snap"]].addAction(self.act_pitch)
         view_menu.addSeparator()
-        for dock in (self.arm_dock, self.table_dock, self.problems_dock):
+        for dock in (self.arm_dock, self.table_dock, self.problems_dock, self.timeline_dock):
             view_menu.addAction(dock.toggleViewAction())
 
         help_menu = bar.addMenu("&Help")
@@ -405,6 +419,20 @@ class MainWindow(QMainWindow):
     def _on_cell_changed(self, _changes: Changes) -> None:
         if not self.hover_label.property("hover"):
             self._show_summary()
+
+    def _on_timeline_visible(self, on: bool) -> None:
+        # The lanes and both curves need more height than the table: grow once, if short.
+        want = min(TIMELINE_PX, int(0.42 * self.height()))
+        if on and not self._timeline_grown and self.timeline_dock.height() < want:
+            self._timeline_grown = True
+            self.resizeDocks([self.timeline_dock], [want], Qt.Orientation.Vertical)
+
+    def show_time(self, t: float) -> None:
+        """Show the timeline at time ``t`` (the arms posed there on the canvas)."""
+        self.timeline_dock.show()
+        self.timeline_dock.raise_()
+        self.timeline.clock.pause()
+        self.timeline.clock.seek(t)
 
     def _on_problem_count(self, n: int) -> None:
         self.problems_dock.setWindowTitle(f"Problems ({n})" if n else "Problems (none)")

@@ -265,7 +265,8 @@ class CellEvaluation:
     Per-arm target verdicts (``arms``) are computed when the evaluation is made; what
     costs more is computed on first use and kept: :meth:`moves` (clearance along every
     sequence move), :meth:`spaces` (maximum, restricted and operating spaces, shared
-    zones) and :meth:`shared_targets`. Evaluations made with ``previous``
+    zones), :meth:`shared_targets` and :meth:`interference` (the arms' cycles run
+    together). Evaluations made with ``previous``
     (:func:`evaluate_cell`) share caches with it, so unchanged parts are never computed
     twice.
     """
@@ -319,6 +320,19 @@ class CellEvaluation:
 
             self._memo[key] = evaluation_spaces(self, operating)
         return self._memo[key]
+
+    def interference(self) -> Any:
+        """The arms running their planned cycles together
+        (:class:`kinematics.interference.Interference`: contacts, smallest separation,
+        shared-zone occupancy), from the shared zones of :meth:`spaces`, which are needed
+        only when two or more arms run."""
+        if "interference" not in self._memo:
+            from .interference import cell_timelines, run_interference
+
+            tls, skipped = cell_timelines(self.cell, self)
+            zones = self.spaces().zones if len(tls) >= 2 else ()
+            self._memo["interference"] = run_interference(tls, zones, None, skipped)
+        return self._memo["interference"]
 
     def shared_targets(self) -> dict[str, tuple[str, ...]]:
         """Targets (of any arm) that two or more arms can reach clear of fixtures."""

@@ -36,6 +36,14 @@ __all__ = [
     "move_problem_text",
     "count_text",
     "hit_note",
+    "seconds",
+    "time_span",
+    "cycle_summary",
+    "slowest_text",
+    "segment_time_text",
+    "arm_contact_text",
+    "zone_overlap_text",
+    "separation_text",
 ]
 
 #: The one word for a target that passes every check.
@@ -228,3 +236,185 @@ def hit_note(
 
     text = lines(fails, "hit by ") + lines(others, "other configuration: ") + list(moves)
     return "\n".join(text)
+
+
+# ---------------------------------------------------------------------------------------
+# cycle times and arms in time
+
+
+def seconds(value: float | None, decimals: int = 3) -> str:
+    """A time in seconds ("1.256 s"), a dash when there is none.
+
+    Examples
+    --------
+    >>> seconds(1.25605), seconds(0.3, 2), seconds(None)
+    ('1.256 s', '0.30 s', '—')
+    """
+    if value is None or not math.isfinite(value):
+        return _DASH
+    return f"{value:.{decimals}f} s"
+
+
+def time_span(intervals: Any, most: int = 3) -> str:
+    """Time intervals in words: "0.57–0.93 s, 1.83–2.19 s", then how many more.
+
+    Examples
+    --------
+    >>> time_span([(0.571, 0.931), (1.83, 2.19)]), time_span([(0, 1)] * 5, most=2)
+    ('0.57–0.93 s, 1.83–2.19 s', '0.00–1.00 s, 0.00–1.00 s and 3 more')
+    >>> time_span([])
+    'never'
+    """
+    iv = list(intervals)
+    if not iv:
+        return "never"
+    text = ", ".join(f"{a:.2f}–{b:.2f} s" for a, b in iv[:most])
+    return text + (f" and {len(iv) - most} more" if len(iv) > most else "")
+
+
+def cycle_summary(plan: Any, arm_name: str) -> str:
+    """One sentence about a sequence's cycle: its time, parts per minute, the best time
+    with one configuration throughout and the targets that force a change.
+
+    ``plan`` is a :class:`kinematics.plan.SequencePlan`.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> moves = (S(changes_configuration=True), S(changes_configuration=True))
+    >>> cycle_summary(S(cycle_time_s=2.322, parts_per_minute=25.84,
+    ...     single_configuration_cycle_time_s=2.659, single_configuration="positive",
+    ...     forced_changes=(), missing=(), reason="", segments=moves), "Loader").split("; ")
+    ['Loader: cycle 2.322 s, 25.8 parts per minute', \
+'one configuration throughout (positive elbow) 2.659 s', \
+'changes configuration 2 times (through full stretch)']
+    >>> print(cycle_summary(S(cycle_time_s=None, missing=("joint_speed_dps",), reason="",
+    ...     forced_changes=()), "Loader"))
+    Loader: no cycle time: missing joint_speed_dps
+    """
+    if plan.cycle_time_s is None:
+        why = "missing " + ", ".join(plan.missing) if plan.missing else plan.reason
+        text = f"{arm_name}: no cycle time: {why or 'no plan'}"
+        if plan.forced_changes:
+            ids = ", ".join(plan.forced_changes)
+            text += f"; no single configuration fits: {ids} force a change"
+        return text
+    ppm = plan.parts_per_minute
+    rate = f", {ppm:.1f} parts per minute" if ppm is not None else ""
+    single = plan.single_configuration_cycle_time_s
+    if single is not None:
+        one = f"one configuration throughout ({plan.single_configuration} elbow) {seconds(single)}"
+    elif plan.forced_changes:
+        one = f"no single configuration fits: forced changes at {', '.join(plan.forced_changes)}"
+    else:
+        one = "no single configuration fits"
+    changes = sum(1 for s in plan.segments if s.changes_configuration)
+    if changes:
+        one += (
+            f"; changes configuration {changes} time{'s' if changes != 1 else ''}"
+            " (through full stretch)"
+        )
+    return f"{arm_name}: cycle {seconds(plan.cycle_time_s)}{rate}; {one}"
+
+
+def slowest_text(segment: Any) -> str:
+    """The slowest move of a cycle: "slowest move pick → nest, 0.353 s".
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> slowest_text(S(from_id="pick", to_id="nest", time_s=0.35314))
+    'slowest move pick → nest, 0.353 s'
+    """
+    return f"slowest move {segment.from_id} → {segment.to_id}, {seconds(segment.time_s)}"
+
+
+def segment_time_text(time_s: float, dwell_s: float) -> str:
+    """A target's cell in the table: the move into it and the dwell there.
+
+    Examples
+    --------
+    >>> segment_time_text(0.35314, 0.25), segment_time_text(2.5, 0.0)
+    ('0.353 s + 0.250 s dwell', '2.500 s')
+    """
+    text = seconds(time_s)
+    return f"{text} + {seconds(dwell_s)} dwell" if dwell_s else text
+
+
+def _doing(arm: str, body: str, move: tuple[str, str], moving: bool) -> str:
+    a, b = move
+    return f"{arm} {body} moving {a} → {b}" if moving else f"{arm} {body} dwelling at {a}"
+
+
+def arm_contact_text(contact: Any) -> str:
+    """Two arms' bodies meet: when, which bodies, and what each arm is doing.
+
+    ``contact`` is a :class:`kinematics.interference.ArmContact`.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> arm_contact_text(S(time_s=0.5763, arms=("left", "right"),
+    ...     bodies=("link 2", "tool"), moves=(("pick", "put"), ("carton", "take")),
+    ...     moving=(True, False))).split(": ")
+    ['arms left and right touch at 0.576 s', \
+'left link 2 moving pick → put, right tool dwelling at carton']
+    """
+    parts = [
+        _doing(a, b, m, bool(mv))
+        for a, b, m, mv in zip(contact.arms, contact.bodies, contact.moves, contact.moving)
+    ]
+    a, b = contact.arms
+    return f"arms {a} and {b} touch at {seconds(contact.time_s)}: {', '.join(parts)}"
+
+
+def zone_overlap_text(zone: Any, both_inside: Any) -> str:
+    """Two arms inside their shared zone at the same time, and the start change that
+    keeps them apart.
+
+    ``zone`` is a :class:`kinematics.interference.ZoneOccupancy`; ``both_inside`` the
+    intervals when both are inside (:func:`kinematics.playback.interval_overlaps`).
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> z = S(arms=("left", "right"), space="operating", suggested_start_shift_s=-0.3598)
+    >>> zone_overlap_text(z, [(0.57, 0.93)]).split("; ")
+    ['shared operating zone left + right: both inside at 0.57–0.93 s', \
+"needs an interlock, or change right's start_s by -0.360 s"]
+    >>> zone_overlap_text(S(arms=("a", "b"), space="restricted",
+    ...     suggested_start_shift_s=None), [(0.4, 1.1)]).split("; ")[1]
+    'needs an interlock (no start change within a cycle separates them)'
+    """
+    a, b = zone.arms
+    head = f"shared {zone.space} zone {a} + {b}: both inside at {time_span(both_inside)}"
+    shift = zone.suggested_start_shift_s
+    if shift is None:
+        return f"{head}; needs an interlock (no start change within a cycle separates them)"
+    return f"{head}; needs an interlock, or change {b}'s start_s by {shift:+.3f} s"
+
+
+def separation_text(separation: Any, units: str) -> str:
+    """How close two arms come over the run: "arms left and right come within 12.3 mm
+    (left link 2, right tool at 1.20 s)", or that they touch.
+
+    ``separation`` is a :class:`kinematics.interference.Separation`.
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as S
+    >>> print(separation_text(S(arms=("left", "right"), gap=12.34, time_s=1.2,
+    ...     bodies=("link 2", "tool")), "mm"))
+    arms left and right come within 12.3 mm (left link 2, right tool at 1.20 s)
+    >>> print(separation_text(S(arms=("a", "b"), gap=-0.4, time_s=0.5,
+    ...     bodies=("tool", "tool")), "mm"))
+    arms a and b touch (smallest separation 0.0 mm)
+    """
+    a, b = separation.arms
+    if separation.gap <= 0:
+        return f"arms {a} and {b} touch (smallest separation {length(0.0, units)})"
+    ba, bb = separation.bodies
+    return (
+        f"arms {a} and {b} come within {length(separation.gap, units)} "
+        f"({a} {ba}, {b} {bb} at {separation.time_s:.2f} s)"
+    )

@@ -48,6 +48,7 @@ from app.interaction.snapping import (
 )
 from app.interaction.tools import MeasureTool, PolygonTool, RectangleTool
 from app.pause import pause_timer
+from app.playback import playback_clock
 from kinematics.cell import FIXTURE_KINDS, Arm
 from kinematics.ik import ELBOWS, Status
 from kinematics.wording import FEASIBLE, STATUS_WORDS, count_text, degrees, length
@@ -60,6 +61,7 @@ from .layers.collisions import LOOKS as COLLISION_LOOKS
 from .layers.fixtures import FixturesLayer
 from .layers.ghosts import GhostsLayer, ghost_pen
 from .layers.notes import NoteLayer
+from .layers.playback import PlaybackLayer
 from .layers.regions import REGION_KEYS, RegionsLayer
 from .layers.spaces import OVERLAY_TITLES, SPACE_OVERLAYS, SpacesLayer
 from .layers.swept import SweptLayer
@@ -185,6 +187,9 @@ class CellCanvas(QWidget):
         self.targets = TargetsLayer(self)
         self.notes = NoteLayer(self)
         self.vb.sigRangeChanged.connect(lambda *_a: self.notes.layout())
+        # The arms at the playback time, while a view showing the playback is open.
+        self.playback = PlaybackLayer(self, playback_clock(document))
+        self.playback.clock.active_changed.connect(lambda _on: self.refresh(all_arms=True))
 
         self._tool_item = QGraphicsPathItem()
         self._tool_item.setPen(cosmetic_pen(style.INK, 1.5, "dash"))
@@ -542,12 +547,15 @@ class CellCanvas(QWidget):
         self.spaces.update(frame)
         self.swept.update(frame)
         self.collisions.set_move_contacts(self.swept.contacts)
+        self.playback.update(frame)
         self.collisions.mark_hits(frame, self.swept.hits, notes=not frame.draft)
         # Notes explain what the marks show; their texts and layout wait for the pause
         # (while a drag steps they would chase every pointer move).
         self.notes.item.setVisible(not frame.draft)
         if not frame.draft:
-            self.notes.set(self.collisions.notes + self.swept.notes + self.spaces.notes)
+            self.notes.set(
+                self.collisions.notes + self.swept.notes + self.spaces.notes + self.playback.notes
+            )
         self._drawn = dict(evaluation.arms)
         self._refresh_legend(frame)
 
@@ -558,6 +566,7 @@ class CellCanvas(QWidget):
             tuple(dict.fromkeys(f.kind for f in cell.fixtures)),
             tuple(sorted(frame.overlays)),
             tuple(sorted(self.spaces.sources.items())),
+            self.playback.legend_key(),
         )
         if getattr(self, "_legend_key", None) == key:
             return
@@ -606,6 +615,7 @@ class CellCanvas(QWidget):
                 look = OVERLAY_LOOKS[k]
                 e.append(LegendEntry("area", look.legend, pen=QPen(look.pen), brush=look.brush))
         e += self.spaces.legend(frame)
+        e += self.playback.legend(frame)
         kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
         if kinds:
             e.append(LegendEntry("header", "Fixtures"))

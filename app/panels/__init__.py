@@ -1,1 +1,2 @@
-"""Docked panels around the canvas: the arm panel, the target table and the problems list."""
+"""Docked panels around the canvas: the arm panel, the target table, the problems list and
+the timeline."""

@@ -1,4 +1,6 @@
-"""The problems list: every infeasible target, then every colliding or impossible move.
+"""The problems list: every infeasible target, every colliding or impossible move, then
+two arms that touch while they run their cycles together and shared zones both occupy
+at once.
 
 Each entry gives the reason in words and numbers (from :mod:`kinematics.wording`).
 Clicking a target's entry selects the target and asks the canvas to centre on it;
@@ -8,8 +10,10 @@ Target entries follow every change live, from the document's shared evaluation: 
 drag steps they give their reasons without amounts (which would change at every pointer
 move), and the amounts come back when the changes pause. Moves cost more (their
 clearance is sampled along the joint path), so during a drag they are checked again once
-the changes pause and the previous move entries stay until then. Only entries whose
-text changed are touched.
+the changes pause and the previous move entries stay until then; so do the arms in time
+(the evaluation's :meth:`~kinematics.evaluate.CellEvaluation.interference`), whose
+entries ask the window to show their time (``time_requested``). Only entries whose text
+changed are touched.
 """
 
 from __future__ import annotations
@@ -25,7 +29,8 @@ from app.panels.text import move_problems
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
 from kinematics.ik import Status
-from kinematics.wording import target_reason
+from kinematics.playback import interval_overlaps
+from kinematics.wording import arm_contact_text, target_reason, zone_overlap_text
 
 __all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS"]
 
@@ -39,8 +44,11 @@ NO_TARGETS = "No targets yet: add targets to see what the arms reach"
 
 _ID_ROLE = Qt.ItemDataRole.UserRole
 _MOVE_ROLE = Qt.ItemDataRole.UserRole + 1
+_TIME_ROLE = Qt.ItemDataRole.UserRole + 2
+#: Marks of the arms-in-time entries: two arms touch (circled cross), a zone both occupy.
+CONTACT_GLYPH, OVERLAP_GLYPH = "⊗", "◫"
 
-_Key = tuple[str, str]  # ("t", target id) or ("m", "arm\0from\0to")
+_Key = tuple[str, str]  # ("t", target id), ("m", "arm\0from\0to") or ("a", "c\0a\0b\0time")
 
 
 class ProblemsList(QListWidget):
@@ -53,12 +61,15 @@ class ProblemsList(QListWidget):
     zoom_targets_requested(list)
         Target ids the canvas should show together (the two ends of a move).
     count_changed(int)
-        Number of problems (targets and moves), after every change.
+        Number of problems (targets, moves, arms in time), after every change.
+    time_requested(float)
+        Seconds into the arms' run the window should show (an arms-in-time entry).
     """
 
     zoom_requested = Signal(str)
     zoom_targets_requested = Signal(list)
     count_changed = Signal(int)
+    time_requested = Signal(float)
 
     def __init__(self, document: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -67,6 +78,7 @@ class ProblemsList(QListWidget):
         pause_timer(document)  # the "changes paused" clock this view waits for
         self._target_lines: list[tuple[str, str, int]] = []  # (id, line, status)
         self._move_lines: list[tuple[tuple[str, str, str], str]] = []
+        self._time_lines: list[tuple[str, str, float]] = []  # (key, line, time)
         self._shown: list[tuple[_Key, str]] = []
         self._names_of: tuple = ()
         self._names: dict[str, str] = {}
@@ -93,8 +105,8 @@ class ProblemsList(QListWidget):
 
     @property
     def count_of_problems(self) -> int:
-        """Entries listed: failing targets plus colliding or impossible moves."""
-        return len(self._target_lines) + len(self._move_lines)
+        """Entries listed: failing targets, colliding or impossible moves, arms in time."""
+        return len(self._target_lines) + len(self._move_lines) + len(self._time_lines)
 
     @property
     def failing_targets(self) -> int:
@@ -104,6 +116,10 @@ class ProblemsList(QListWidget):
     def problem_ids(self) -> list[str]:
         """Ids of the failing targets listed, in order."""
         return [tid for tid, _line, _st in self._target_lines]
+
+    def time_problems(self) -> list[tuple[str, float]]:
+        """(line, time) of the arms-in-time entries listed, in order."""
+        return [(line, t) for _key, line, t in self._time_lines]
 
     def problem_moves(self) -> list[tuple[str, str, str]]:
         """(arm, from, to) of the moves listed, in order."""
@@ -133,6 +149,7 @@ class ProblemsList(QListWidget):
         if moves:
             self._moves_stale = False
             self._move_lines = self._compute_moves()
+            self._time_lines = self._compute_times()
         self._target_lines = self._compute_targets(plain=self.document.unsettled)
         self._show()
 
@@ -183,6 +200,29 @@ class ProblemsList(QListWidget):
             return []
         return move_problems(cell, self.document.evaluation.moves())
 
+    def _compute_times(self) -> list[tuple[str, str, float]]:
+        """Arms that touch while running their cycles together, and shared zones both
+        occupy at once (with the start change that keeps them apart)."""
+        cell = self.document.cell
+        if len(cell.arms) < 2 or not cell.sequences:
+            return []
+        it = self.document.evaluation.interference()
+        out = []
+        for sep in it.separations:
+            c = sep.first_contact
+            if c is not None:
+                line = f"{CONTACT_GLYPH} {arm_contact_text(c)}"
+                t = float(c.time_s)
+                out.append(("\0".join(("c", *c.arms, repr(t))), line, t))
+        for z in it.zones:
+            if not z.overlap:
+                continue
+            both = interval_overlaps(*(z.intervals[a] for a in z.arms))
+            line = f"{OVERLAP_GLYPH} {zone_overlap_text(z, both)}"
+            t = float(both[0][0]) if both else 0.0
+            out.append(("\0".join(("z", z.space, *z.arms, repr(t))), line, t))
+        return out
+
     def _wanted(self) -> list[tuple[_Key, str, QBrush | None, str]]:
         out: list[tuple[_Key, str, QBrush | None, str]] = []
         for tid, line, st in self._target_lines:
@@ -192,6 +232,9 @@ class ProblemsList(QListWidget):
             brush = self._brush(int(Status.COLLISION if collides else Status.Q2_LIMIT))
             tip = f"{line}\nClick to select and show both targets of the move."
             out.append((("m", "\0".join(key)), line, brush, tip))
+        for key, line, t in self._time_lines:
+            tip = f"{line}\nClick to show the arms at {t:.3f} s on the timeline."
+            out.append((("a", key), line, self._brush(int(Status.COLLISION)), tip))
         if not out:
             text = NO_PROBLEMS if self.document.cell.targets else NO_TARGETS
             out.append((("none", ""), text, self._brush("ok"), text))
@@ -243,6 +286,9 @@ class ProblemsList(QListWidget):
                 item.setData(_ID_ROLE, ident)
             elif kind == "m":
                 item.setData(_MOVE_ROLE, ident.split("\0"))
+            elif kind == "a":
+                t = next(t for k, _line, t in self._time_lines if k == ident)
+                item.setData(_TIME_ROLE, t)
             else:
                 item.setFlags(Qt.ItemFlag.ItemIsEnabled)
             item.setToolTip(tip)
@@ -261,6 +307,10 @@ class ProblemsList(QListWidget):
         return list(dict.fromkeys(move[1:])) if move else []
 
     def _on_clicked(self, item: QListWidgetItem) -> None:
+        t = item.data(_TIME_ROLE)
+        if t is not None:
+            self.time_requested.emit(float(t))
+            return
         ids = self._ids_of(item)
         if not ids:
             return

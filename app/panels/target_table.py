@@ -38,6 +38,7 @@ from app.panels.validate import Invalid, check_cell, format_number, replace_targ
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
 from kinematics.ik import Status
+from kinematics.wording import segment_time_text
 
 __all__ = [
     "Column",
@@ -114,10 +115,17 @@ COLUMNS = (
         "a1·a2·|sin q2|: 0 at a singular pose (stretched or folded), largest at q2 = ±90°",
         numeric=True,
     ),
+    Column(
+        "segment",
+        "move in + dwell",
+        "From the fastest plan of the target's sequence: the time of the move into the "
+        "target, then the dwell there; one entry per visit (a dash: no planned sequence)",
+        numeric=True,
+    ),
 )
 _KEYS = [c.key for c in COLUMNS]
 # Widest a column starts (pixels); longer text is elided and shown whole in the tooltip.
-_COLUMN_CAPS = {"id": 110, "name": 160, "status": 290, "nearest": 220}
+_COLUMN_CAPS = {"id": 110, "name": 160, "status": 290, "nearest": 220, "segment": 220}
 _EDIT_LABELS = {
     "name": "Rename {id}",
     "x": "Move {id}",
@@ -159,6 +167,35 @@ def _clear(ev: Any, i: int, k: int) -> float:
         return -math.inf
     v = float(ev.clearance[i, k])
     return -math.inf if math.isnan(v) else v
+
+
+_VISITS: dict[int, tuple[Any, dict[str, list[tuple[float, float]]]]] = {}
+
+
+def _visits(ev: Any) -> dict[str, list[tuple[float, float]]]:
+    """Per target id, (move in, dwell) of each visit in the arm's plans (kept per plans)."""
+    plans = getattr(ev, "plans", ())
+    hit = _VISITS.get(id(plans))
+    if hit is not None and hit[0] is plans:
+        return hit[1]
+    out: dict[str, list[tuple[float, float]]] = {}
+    for p in plans:
+        segs = p.segments
+        for v, seg in enumerate(segs):
+            # Visit v: the move into it is the previous segment, its dwell starts this one.
+            out.setdefault(seg.from_id, []).append((segs[v - 1].time_s, seg.dwell_s))
+    if len(_VISITS) > 64:
+        _VISITS.clear()
+    _VISITS[id(plans)] = (plans, out)
+    return out
+
+
+def _segment_cell(ev: Any, target_id: str) -> tuple[str, float]:
+    visits = _visits(ev).get(target_id)
+    if not visits:
+        return "—", -math.inf
+    text = "; ".join(segment_time_text(a, b) for a, b in visits)
+    return text, float(visits[0][0])
 
 
 def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
@@ -205,9 +242,11 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
         length(reach, u, False),
         f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
     ]
+    seg_text, seg_sort = _segment_cell(ev, t.id)
+    text.append(seg_text)
     sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
     sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
-    sort += [_num(limit), _num(reach), _num(manip)]
+    sort += [_num(limit), _num(reach), _num(manip), seg_sort]
     tip = status_cell(ev, i, u)
     return _Row(t.id, text, sort, st, bool(ev.feasible[i]), tip, allowed)
 
@@ -259,6 +298,12 @@ def _changed_rows(old: Any, new: Any) -> set[int] | None:
             return None
         d = ~((a == b) | (np.isnan(a) & np.isnan(b)) if a.dtype.kind == "f" else (a == b))
         diff |= d.reshape(len(diff), -1).any(axis=1)
+    seen_old, seen_new = _visits(old), _visits(new)
+    if seen_old != seen_new:
+        # The plans changed (speeds, dwells, configurations): rows whose visits differ.
+        for i, tid in enumerate(new.target_ids):
+            if seen_old.get(tid) != seen_new.get(tid):
+                diff[i] = True
     if old.arm.name != new.arm.name or old.fixtures != new.fixtures:
         diff[:] = True
     return set(np.flatnonzero(diff).tolist())
@@ -318,6 +363,7 @@ class TargetTableModel(QStandardItemModel):
             "limit": "limit\nmargin (°)",
             "reach": f"reach\nmargin ({units})",
             "manip": f"manipu-\nlability ({units}²)",
+            "segment": "move in\n+ dwell (s)",
         }.get(col.key, col.header)
 
     def _rebuild(self) -> None:

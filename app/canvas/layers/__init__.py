@@ -4,7 +4,8 @@ Every layer gets a :class:`Frame` (the document's cell and evaluation, which arm
 changed, whether a drag is stepping) and updates its scene items from it; none of them
 computes geometry (shapes come from :mod:`kinematics` as arrays). Z order, bottom to
 top: fixtures (the cached background), spaces, swept areas, shared zones, regions,
-ghost poses, colliding bodies, bases, targets, contact marks, labels, notes.
+ghost poses, colliding bodies, bases, arms at the playback time, targets, contact
+marks, labels, notes.
 """
 
 from __future__ import annotations
