@@ -27,7 +27,14 @@ from .cell import Cell
 from .checks import choice_problem
 from .dxf_units import IMPORT_UNITS
 
-__all__ = ["UNDERLAY_KEY", "UnderlaySpec", "underlay_problems", "underlay_spec", "underlay_path"]
+__all__ = [
+    "UNDERLAY_KEY",
+    "UnderlaySpec",
+    "underlay_problems",
+    "underlay_spec",
+    "underlay_path",
+    "load_underlay",
+]
 
 #: The top-level cell key.
 UNDERLAY_KEY = "underlay"
@@ -112,3 +119,26 @@ def underlay_path(spec: UnderlaySpec, cell_file: str | os.PathLike[str] | None) 
     if cell_file is None:
         return None
     return Path(cell_file).parent / Path(*PurePosixPath(spec.dxf).parts)
+
+
+def load_underlay(cell: Cell, cell_file: str | os.PathLike[str] | None) -> tuple[Any, str]:
+    """The cell's underlay read from its DXF file: ``(DxfUnderlay or None, note)``.
+
+    The note says, in one line, what was drawn or why nothing is ("" when the cell has no
+    underlay); reading problems never raise.
+    """
+    from .dxf_import import DxfReadError, dxf_underlay
+
+    spec = underlay_spec(cell)
+    if spec is None:
+        return None, ""
+    path = underlay_path(spec, cell_file)
+    if path is None:
+        return None, f"underlay {spec.dxf}: not drawn (save the cell first: the path is relative)"
+    try:
+        u = dxf_underlay(path, cell_units=cell.units, drawing_units=spec.units, layers=spec.layers)
+    except DxfReadError as exc:
+        return None, f"underlay not drawn: {exc}"
+    except OSError as exc:
+        return None, f"underlay not drawn: {spec.dxf}: {exc.strerror or exc}"
+    return u, f"underlay {spec.dxf}: {u.count()} lines on {len(u.layers)} layers ({u.units})"

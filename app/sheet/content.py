@@ -8,8 +8,10 @@ document's one evaluation (or a fresh one for the command line).
 from __future__ import annotations
 
 import math
+import os
 from dataclasses import dataclass, field
 from datetime import date
+from pathlib import Path
 from typing import Any
 
 from kinematics.caution import CAUTION_FULL
@@ -17,6 +19,7 @@ from kinematics.cell import Cell
 from kinematics.evaluate import CellEvaluation
 from kinematics.ik import Status
 from kinematics.review import REVIEW_FIELDS, title_block
+from kinematics.underlay import load_underlay
 from kinematics.wording import (
     FEASIBLE,
     count_text,
@@ -293,7 +296,10 @@ def title_texts(
     out = {f.key: (f.label, fields[f.key]) for f in REVIEW_FIELDS}
     out["title"] = ("Title", fields["title"])
     out["scale"] = ("Scale", scale.text)
-    out["paper"] = ("Paper, units", f"{options.paper} {options.orientation[0].upper()}, {cell.units}")
+    out["paper"] = (
+        "Paper, units",
+        f"{options.paper} {options.orientation[0].upper()}, {cell.units}",
+    )
     out["sheet"] = ("Sheet", f"{sheet} of {sheets}")
     made = date.today().isoformat()
     out["source"] = (
@@ -305,7 +311,11 @@ def title_texts(
 
 @dataclass(frozen=True)
 class SheetContent:
-    """Everything a set of sheets says, computed once (the preview redraws it often)."""
+    """Everything a set of sheets says, computed once (the preview redraws it often).
+
+    ``underlay`` is the cell's DXF underlay (:class:`kinematics.dxf_import.DxfUnderlay`)
+    when it has one that could be read; ``underlay_note`` says what became of it.
+    """
 
     cell: Cell
     evaluation: CellEvaluation
@@ -313,17 +323,38 @@ class SheetContent:
     summary: Summary
     caution: str
     source: str
+    underlay: Any = None
+    underlay_note: str = ""
 
 
 def sheet_content(
-    evaluation: CellEvaluation, source: str = "", placement: dict[str, dict] | None = None
+    evaluation: CellEvaluation,
+    cell_path: str | os.PathLike[str] | None = None,
+    placement: dict[str, dict] | None = None,
+    underlay: tuple[Any, str] | None = None,
 ) -> SheetContent:
-    """The table, summary and caution of an evaluated cell (``source``: its file name)."""
+    """The table, summary and caution of an evaluated cell.
+
+    Parameters
+    ----------
+    evaluation : CellEvaluation
+    cell_path : path, optional
+        The cell's file (its name is printed; the underlay's path is relative to it).
+    placement : dict, optional
+        Arm id -> placement tolerances, when already known.
+    underlay : (DxfUnderlay or None, note), optional
+        The underlay as already read (else it is read here).
+    """
+    cell = evaluation.cell
+    if underlay is None:
+        underlay = load_underlay(cell, cell_path)
     return SheetContent(
-        cell=evaluation.cell,
+        cell=cell,
         evaluation=evaluation,
         rows=table_rows(evaluation),
         summary=summary(evaluation, placement),
         caution=CAUTION_FULL,
-        source=source or "unsaved cell",
+        source=Path(cell_path).name if cell_path is not None else "unsaved cell",
+        underlay=underlay[0],
+        underlay_note=underlay[1],
     )

@@ -52,7 +52,12 @@ __all__ = [
 ]
 
 #: ISO 216 A series, portrait (width, height) in mm.
-PAPER_SIZES = {"A4": (210.0, 297.0), "A3": (297.0, 420.0), "A2": (420.0, 594.0), "A1": (594.0, 841.0)}
+PAPER_SIZES = {
+    "A4": (210.0, 297.0),
+    "A3": (297.0, 420.0),
+    "A2": (420.0, 594.0),
+    "A1": (594.0, 841.0),
+}
 ORIENTATIONS = ("landscape", "portrait")
 #: The scale choice that picks the largest standard scale at which the cell fits.
 FIT = "fit"
@@ -145,12 +150,12 @@ TITLE_FIELDS: tuple[tuple[str, Box], ...] = (
     ("document_status", Box(135, 9, 45, 9)),
     ("title", Box(0, 18, 90, 18)),
     ("identification_number", Box(90, 18, 45, 9)),
-    ("revision", Box(135, 18, 15, 9)),
-    ("date", Box(150, 18, 30, 9)),
+    ("revision", Box(135, 18, 20, 9)),
+    ("date", Box(155, 18, 25, 9)),
     ("scale", Box(90, 27, 22.5, 9)),
     ("paper", Box(112.5, 27, 22.5, 9)),
-    ("language_code", Box(135, 27, 15, 9)),
-    ("sheet", Box(150, 27, 30, 9)),
+    ("language_code", Box(135, 27, 20, 9)),
+    ("sheet", Box(155, 27, 25, 9)),
     ("source", Box(0, 36, 180, 9)),
 )
 
@@ -267,7 +272,10 @@ def sheet_frame(paper: str, orientation: str) -> SheetFrame:
         top = title.y
     else:  # above it, the full width
         caution = Box(
-            border.x + GAP, title.y - CAUTION_PORTRAIT_H, border.w - 2 * GAP, CAUTION_PORTRAIT_H - GAP
+            border.x + GAP,
+            title.y - CAUTION_PORTRAIT_H,
+            border.w - 2 * GAP,
+            CAUTION_PORTRAIT_H - GAP,
         )
         top = title.y - CAUTION_PORTRAIT_H
     content = Box(border.x + GAP, border.y + GAP, border.w - 2 * GAP, top - border.y - 2 * GAP)
