@@ -89,17 +89,17 @@ class SheetOptions:
 
 #: Target table columns: (key, header, share of the table's width, numeric).
 TABLE_COLUMNS = (
-    ("id", "id", 0.07, False),
-    ("name", "name", 0.11, False),
+    ("id", "id", 0.075, False),
+    ("name", "name", 0.105, False),
     ("position", "position x, y", 0.105, True),
-    ("arm", "arm", 0.065, False),
-    ("configuration", "configuration", 0.075, False),
-    ("q1", "q1", 0.045, True),
-    ("q2", "q2", 0.045, True),
-    ("limit", "limit margin", 0.06, True),
-    ("reach", "reach margin", 0.065, True),
-    ("clearance", "clearance", 0.065, True),
-    ("status", "status and reason", 0.295, False),
+    ("arm", "arm", 0.06, False),
+    ("configuration", "configuration", 0.08, False),
+    ("q1", "q1", 0.05, True),
+    ("q2", "q2", 0.05, True),
+    ("limit", "limit margin", 0.055, True),
+    ("reach", "reach margin", 0.06, True),
+    ("clearance", "clearance", 0.075, True),
+    ("status", "status and reason", 0.285, False),
 )
 
 
@@ -120,8 +120,8 @@ def _clearance(ev: Any, i: int, k: int, units: str) -> str:
         return "—"
     if math.isinf(c):
         return "none blocks"
-    text = length(c, units)
-    return f"{text} (collides)" if bool(ev.collides[i, k]) else text
+    text = length(c, units, unit=False)
+    return f"{text} ✕" if bool(ev.collides[i, k]) else text
 
 
 def table_rows(evaluation: CellEvaluation) -> list[TableRow]:
@@ -157,8 +157,8 @@ def table_rows(evaluation: CellEvaluation) -> list[TableRow]:
         if chosen is not None:
             config = chosen
         elif reachable:
-            config = f"none ({'both' if bool(ik.singular[i]) else ('positive', 'negative')[k]}"
-            config += " closest)"
+            closest = "both" if bool(ik.singular[i]) else ("positive", "negative")[k]
+            config = f"none ({closest} closest)"
         else:
             config = "none"
         q1, q2 = (float(v) for v in ik.q_deg[i, k])
@@ -169,10 +169,10 @@ def table_rows(evaluation: CellEvaluation) -> list[TableRow]:
         texts.update(
             {
                 "configuration": config,
-                "q1": degrees(q1) if reachable else "—",
-                "q2": degrees(q2) if reachable else "—",
-                "limit": degrees(float(ik.limit_margin_deg[i, k])) if reachable else "—",
-                "reach": length(float(ik.reach_margin[i]), u),
+                "q1": degrees(q1, False) if reachable else "—",
+                "q2": degrees(q2, False) if reachable else "—",
+                "limit": degrees(float(ik.limit_margin_deg[i, k]), False) if reachable else "—",
+                "reach": length(float(ik.reach_margin[i]), u, False),
                 "clearance": _clearance(ev, i, k, u) if reachable else "—",
                 "status": FEASIBLE if feasible else f"fails: {reason}",
             }

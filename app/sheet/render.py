@@ -222,18 +222,24 @@ class SheetPlan:
     row_lines: list[list[str]]
     sheets: int
     metrics: _Metrics = field(repr=False, default_factory=_Metrics)
+    table_size: float = _T_TABLE
 
     @property
     def scale(self) -> Scale:
         return self.mapping.scale
 
 
-def _row_height(lines: int) -> float:
-    return _T_TABLE * _LINE * lines + 0.8
+def _table_size(width: float) -> float:
+    """Text size of the target table: smaller on narrow paper, so numbers stay whole."""
+    return _T_TABLE if width >= 300.0 else 1.65
 
 
-def _header_height() -> float:
-    return _T_TABLE * _LINE * 2 + 1.2
+def _row_height(lines: int, ts: float = _T_TABLE) -> float:
+    return ts * _LINE * lines + 0.8
+
+
+def _header_height(ts: float = _T_TABLE) -> float:
+    return ts * _LINE * 2 + 1.2
 
 
 def _world_box(content: SheetContent) -> tuple[float, float, float, float]:
@@ -254,13 +260,12 @@ def plan_sheets(content: SheetContent, options: SheetOptions) -> SheetPlan:
     frame = sheet_frame(options.paper, options.orientation)
     metrics = _Metrics()
     table_w = frame.content.w
+    ts = _table_size(table_w)
     status_w = dict((k, w) for k, _h, w, _n in TABLE_COLUMNS)["status"] * table_w - 2.0
-    row_lines = [
-        metrics.wrap(r.texts["status"], status_w - 4.0, _T_TABLE)[:2] for r in content.rows
-    ]
-    heights = [_row_height(len(lines)) for lines in row_lines]
-    total = sum(heights) + _header_height() + _T_HEAD * _LINE + 1.0
-    on_first = total <= 0.35 * frame.content.h
+    row_lines = [metrics.wrap(r.texts["status"], status_w - 4.0, ts)[:2] for r in content.rows]
+    heights = [_row_height(len(lines), ts) for lines in row_lines]
+    total = sum(heights) + _header_height(ts) + _T_HEAD * _LINE + 1.0
+    on_first = total <= (0.3 if frame.landscape else 0.2) * frame.content.h
     parts = split_drawing(frame, total if on_first else 0.0)
     world = _world_box(content)
     fit_in = parts["plan"].inset(_FIT_PAD_MM)
@@ -268,13 +273,13 @@ def plan_sheets(content: SheetContent, options: SheetOptions) -> SheetPlan:
     if on_first:
         pages = [(0, 0, len(content.rows))]
     else:
-        room = frame.content.h - _header_height() - _T_HEAD * _LINE - 1.0
+        room = frame.content.h - _header_height(ts) - _T_HEAD * _LINE - 1.0
         pages = [
             (k + 1, a, b) for k, (a, b) in enumerate(paginate(heights, room, room)) if b > a
         ] or [(1, 0, 0)]
     sheets = 1 + (0 if on_first else len(pages))
     return SheetPlan(
-        content, options, frame, parts, mapping, world, pages, row_lines, sheets, metrics
+        content, options, frame, parts, mapping, world, pages, row_lines, sheets, metrics, ts
     )
 
 
@@ -715,34 +720,43 @@ def _paint_strip(page: _Page, plan: SheetPlan) -> None:
 
 
 def _paint_legend(page: _Page, box: Box, rows: list[LegendEntry]) -> float:
-    """Legend rows from the top of ``box``; returns the height used."""
+    """Legend rows from the top of ``box`` (in two columns when one is too short and the
+    box is wide enough); returns the height used."""
     row = 3.4
-    y = box.y
-    page.text(box.x, y, "Legend", _T_HEAD, bold=True)
-    y += _T_HEAD * _LINE + 0.5
-    for e in rows:
-        if y + row > box.bottom:
-            page.text(
-                box.x,
-                y,
-                "… more styles than room (see the canvas legend)",
-                _T_GRID,
-                _WARN,
-                italic=True,
-            )
-            break
+    page.text(box.x, box.y, "Legend", _T_HEAD, bold=True)
+    top = box.y + _T_HEAD * _LINE + 0.5
+    need = legend_height(rows) - (top - box.y)
+    columns = 2 if need > box.bottom - top and box.w >= 90.0 else 1
+    cw = (box.w - 3.0 * (columns - 1)) / columns
+    col, y = 0, top
+    for n, e in enumerate(rows):
+        h = row + (0.6 if e.kind == "header" else 0.0)
+        if y + h > box.bottom:
+            if col + 1 < columns:
+                col, y = col + 1, top
+            else:
+                page.text(
+                    box.x + col * (cw + 3.0),
+                    y,
+                    f"… {len(rows) - n} more rows than room",
+                    _T_GRID,
+                    _WARN,
+                    italic=True,
+                )
+                break
+        x = box.x + col * (cw + 3.0)
         if e.kind == "header":
             y += 0.6
-            page.text(box.x, y, page.m.elide(e.text, box.w, _T_BODY, True), _T_BODY, bold=True)
+            page.text(x, y, page.m.elide(e.text, cw, _T_BODY, True), _T_BODY, bold=True)
             y += row
             continue
-        sample = QRectF(box.x + 0.5, y + 0.2, 8.0, 2.6)
+        sample = QRectF(x + 0.5, y + 0.2, 8.0, 2.6)
         dev = page.p.transform().mapRect(sample)
         page.p.save()
         page.p.resetTransform()
         paint_sample(page.p, e, dev, page.ink)
         page.p.restore()
-        page.text(box.x + 10.5, y + 0.1, page.m.elide(e.text, box.w - 11.0, _T_BODY), _T_BODY)
+        page.text(x + 10.5, y + 0.1, page.m.elide(e.text, cw - 11.0, _T_BODY), _T_BODY)
         y += row
     return y - box.y
 
@@ -783,6 +797,7 @@ def _paint_table(
     page: _Page, plan: SheetPlan, box: Box, start: int, stop: int, continued: bool
 ) -> None:
     rows, cell = plan.content.rows, plan.content.cell
+    ts = plan.table_size
     title = "Targets" + (" (continued)" if continued else "")
     title += f": rows {start + 1}–{stop} of {len(rows)}" if len(rows) else ": none"
     page.text(box.x, box.y, title, _T_HEAD, bold=True)
@@ -795,22 +810,23 @@ def _paint_table(
     units = cell.units
     heads = {
         "position": f"position x, y ({units})",
-        "limit": "limit margin",
-        "reach": "reach margin",
-        "q1": "q1",
-        "q2": "q2",
+        "limit": "limit margin (°)",
+        "reach": f"reach margin ({units})",
+        "clearance": f"clearance ({units})",
+        "q1": "q1 (°)",
+        "q2": "q2 (°)",
     }
-    hh = _header_height()
+    hh = _header_height(ts)
     page.rect(Box(box.x, y, box.w, hh), 0.0, fill=mixed(style.PALETTE["fog"], 0.35))
     for j, (k, h, _s, numeric) in enumerate(TABLE_COLUMNS):
-        words = page.m.wrap(heads.get(k, h), xs[j + 1] - xs[j] - 1.5, _T_TABLE, True)[:2]
+        words = page.m.wrap(heads.get(k, h), xs[j + 1] - xs[j] - 1.5, ts, True)[:2]
         for n, w in enumerate(words):
             tx = xs[j + 1] - 0.8 if numeric else xs[j] + 0.8
             page.text(
                 tx,
-                y + 0.6 + n * _T_TABLE * _LINE,
+                y + 0.6 + n * ts * _LINE,
                 w,
-                _T_TABLE,
+                ts,
                 bold=True,
                 align="right" if numeric else "left",
             )
@@ -820,14 +836,14 @@ def _paint_table(
     for r in range(start, stop):
         row = rows[r]
         lines = plan.row_lines[r]
-        rh = _row_height(len(lines))
+        rh = _row_height(len(lines), ts)
         if not row.feasible:
             page.rect(Box(box.x, y, box.w, rh), 0.0, fill=mixed(style.PALETTE["ember"], 0.07))
         for j, (k, _h, _s, numeric) in enumerate(TABLE_COLUMNS):
             cw = xs[j + 1] - xs[j] - 1.6
             if k == "status":
                 # The status marker (the drawing's shape and colour), then the words.
-                cx, cy = xs[j] + 2.0, y + 0.4 + _T_TABLE * _LINE / 2
+                cx, cy = xs[j] + 2.0, y + 0.4 + ts * _LINE / 2
                 dev = page.p.transform().map(QPointF(cx, cy))
                 page.p.save()
                 page.p.resetTransform()
@@ -842,11 +858,11 @@ def _paint_table(
                 page.p.restore()
                 colour = _INK if row.feasible else _WARN
                 for n, text in enumerate(lines):
-                    page.text(xs[j] + 4.0, y + 0.4 + n * _T_TABLE * _LINE, text, _T_TABLE, colour)
+                    page.text(xs[j] + 4.0, y + 0.4 + n * ts * _LINE, text, ts, colour)
                 continue
-            text = page.m.elide(row.texts.get(k, ""), cw, _T_TABLE)
+            text = page.m.elide(row.texts.get(k, ""), cw, ts)
             tx = xs[j + 1] - 0.8 if numeric else xs[j] + 0.8
-            page.text(tx, y + 0.4, text, _T_TABLE, align="right" if numeric else "left")
+            page.text(tx, y + 0.4, text, ts, align="right" if numeric else "left")
         y += rh
         page.line(box.x, y, box.right, y, 0.1, _SLATE)
     for xv in xs[1:-1]:
