@@ -49,8 +49,9 @@ from app.canvas.layers.regions import REGION_KEYS, paint_regions, region_rings
 from app.canvas.layers.spaces import LOOKS as SPACE_LOOKS
 from app.canvas.layers.spaces import SHARED_SYMBOL, paint_shared_targets, paint_spaces
 from app.canvas.layers.swept import paint_swept
+from app.canvas.layers.underlay import UNDERLAY_PEN
 from app.canvas.legend import LegendEntry, paint_sample
-from app.canvas.qtstyle import OVERLAY_LOOKS, cosmetic_pen, fixture_look, mixed
+from app.canvas.qtstyle import OVERLAY_LOOKS, fixture_look, mixed
 from app.interaction.fit import cell_box
 from kinematics.atomic import write_atomic
 from kinematics.ik import ELBOWS, Status
@@ -87,16 +88,12 @@ __all__ = [
     "png_size",
     "png_problem",
     "legend_height",
-    "UNDERLAY_PEN",
 ]
 
 #: Largest PNG sheet, in pixels (A1 at 300 dpi is 70 million).
 MAX_PNG_PIXELS = 100_000_000
 #: Resolutions a PNG sheet may have, dots per inch.
 DPI_RANGE = (36, 1200)
-#: Lines of a DXF underlay: thin, neutral and solid (fixtures are filled; this is not).
-UNDERLAY_PEN = cosmetic_pen(style.PALETTE["slate"], 0.7)
-UNDERLAY_PEN.setColor(mixed(style.PALETTE["slate"], 0.55))
 
 _REF_DPI = 1200.0  # metrics and pagination are worked out at this resolution
 _FIT_PAD_MM = 2.0  # fit leaves this much paper free around the cell's box
