@@ -95,11 +95,15 @@ class PaperInk(ScreenInk):
         Device units per millimetre of paper (the painter's device).
     px_mm : float
         Paper millimetres per canvas pixel.
+    clip : bool
+        The device keeps clip paths (PDF, images): pattern stripes are clipped to the
+        shape. Without (SVG) they are cut to it as areas, outline by outline.
     """
 
-    def __init__(self, device_per_mm: float, px_mm: float = PX_MM) -> None:
+    def __init__(self, device_per_mm: float, px_mm: float = PX_MM, clip: bool = True) -> None:
         self.device_per_mm = float(device_per_mm)
         self.px = float(device_per_mm) * px_mm  # device units per canvas pixel
+        self.clip = clip
 
     def pen(self, pen: QPen) -> QPen:
         out = QPen(pen)
@@ -123,9 +127,7 @@ class PaperInk(ScreenInk):
             if brush.style() == Qt.BrushStyle.SolidPattern:
                 painter.fillPath(dev, brush)
             else:
-                pattern = self.pattern(dev, brush.style())
-                if not pattern.isEmpty():
-                    painter.fillPath(pattern, QBrush(brush.color()))
+                self._fill_pattern(painter, dev, brush)
         if pen is not None and pen.style() != Qt.PenStyle.NoPen:
             painter.setPen(self.pen(pen))
             painter.setBrush(Qt.BrushStyle.NoBrush)
@@ -141,9 +143,27 @@ class PaperInk(ScreenInk):
         painter.drawPath(dev)
         painter.restore()
 
-    def pattern(self, dev: QPainterPath, brush_style: Qt.BrushStyle) -> QPainterPath:
-        """The stripes (or dots) of a pattern brush inside a device-space path, as an area."""
-        box = dev.boundingRect()
+    def _fill_pattern(self, painter: QPainter, dev: QPainterPath, brush: QBrush) -> None:
+        fill = QBrush(brush.color())
+        if self.clip:
+            painter.save()
+            painter.setClipPath(dev, Qt.ClipOperation.IntersectClip)
+            painter.fillPath(self.pattern(dev.boundingRect(), brush.style()), fill)
+            painter.restore()
+            return
+        if dev.fillRule() == Qt.FillRule.WindingFill:
+            # A union of outlines (bodies): each one cut on its own, the stripes line up.
+            for poly in dev.toSubpathPolygons():
+                part = QPainterPath()
+                part.addPolygon(poly)
+                marks = self.pattern(part.boundingRect(), brush.style())
+                painter.fillPath(part.intersected(marks), fill)
+            return
+        painter.fillPath(dev.intersected(self.pattern(dev.boundingRect(), brush.style())), fill)
+
+    def pattern(self, box: QRectF, brush_style: Qt.BrushStyle) -> QPainterPath:
+        """The stripes (or dots) of a pattern brush over a device box, as an area; on a
+        grid fixed to the page, so neighbouring shapes' stripes line up."""
         if box.isEmpty():
             return QPainterPath()
         S = Qt.BrushStyle
@@ -158,36 +178,36 @@ class PaperInk(ScreenInk):
         marks = QPainterPath()
         if directions is None:  # dense patterns: a grid of dots
             step, d = _DOT_PX * self.px, 1.0 * self.px
-            x0 = math.floor(box.left() / step) * step
-            y0 = math.floor(box.top() / step) * step
-            for i, x in enumerate(np.arange(x0, box.right() + step, step)):
+            i0, i1 = math.floor(box.left() / step), math.ceil(box.right() / step)
+            j0, j1 = math.floor(box.top() / step), math.ceil(box.bottom() / step)
+            for i in range(i0, i1 + 1):
                 off = step / 2 if i % 2 else 0.0
-                for y in np.arange(y0 + off, box.bottom() + step, step):
-                    marks.addRect(QRectF(x - d / 2, y - d / 2, d, d))
-        else:
-            step, w = _STRIPE_PX * self.px, _STRIPE_W_PX * self.px
-            cx, cy = box.center().x(), box.center().y()
-            half = math.hypot(box.width(), box.height()) / 2 + step
-            n = int(math.ceil(half / step))
-            for angle in directions:
-                a = math.radians(angle)
-                ux, uy = math.cos(a), -math.sin(a)  # along the stripe (device y is down)
-                nx, ny = -uy, ux  # across
-                for k in range(-n, n + 1):
-                    o = k * step
-                    px, py = cx + nx * o, cy + ny * o
-                    poly = QPolygonF(
-                        [
-                            QPointF(px - ux * half, py - uy * half),
-                            QPointF(px + ux * half, py + uy * half),
-                            QPointF(px + ux * half + nx * w, py + uy * half + ny * w),
-                            QPointF(px - ux * half + nx * w, py - uy * half + ny * w),
-                        ]
-                    )
-                    marks.addPolygon(poly)
-                    marks.closeSubpath()
-            marks.setFillRule(Qt.FillRule.WindingFill)
-        return dev.intersected(marks)
+                for j in range(j0 - 1, j1 + 1):
+                    marks.addRect(QRectF(i * step - d / 2, j * step + off - d / 2, d, d))
+            return marks
+        step, w = _STRIPE_PX * self.px, _STRIPE_W_PX * self.px
+        corners = [box.topLeft(), box.topRight(), box.bottomLeft(), box.bottomRight()]
+        for angle in directions:
+            a = math.radians(angle)
+            ux, uy = math.cos(a), -math.sin(a)  # along the stripe (device y is down)
+            nx, ny = -uy, ux  # across
+            offs = [c.x() * nx + c.y() * ny for c in corners]
+            along = [c.x() * ux + c.y() * uy for c in corners]
+            t0, t1 = min(along) - step, max(along) + step
+            for k in range(math.floor(min(offs) / step) - 1, math.ceil(max(offs) / step) + 1):
+                o = k * step
+                poly = QPolygonF(
+                    [
+                        QPointF(nx * o + ux * t0, ny * o + uy * t0),
+                        QPointF(nx * o + ux * t1, ny * o + uy * t1),
+                        QPointF(nx * (o + w) + ux * t1, ny * (o + w) + uy * t1),
+                        QPointF(nx * (o + w) + ux * t0, ny * (o + w) + uy * t0),
+                    ]
+                )
+                marks.addPolygon(poly)
+                marks.closeSubpath()
+        marks.setFillRule(Qt.FillRule.WindingFill)
+        return marks
 
 
 def _device_points(tr: QTransform, xy: np.ndarray) -> np.ndarray:

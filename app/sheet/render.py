@@ -286,12 +286,12 @@ def plan_sheets(content: SheetContent, options: SheetOptions) -> SheetPlan:
 class _Page:
     """Painting helpers for one sheet: the painter draws in paper mm."""
 
-    def __init__(self, painter: QPainter, dpi: float, metrics: _Metrics) -> None:
+    def __init__(self, painter: QPainter, dpi: float, metrics: _Metrics, clip: bool) -> None:
         self.p = painter
         self.dpi = dpi
         self.m = metrics
         self.dpm = dpi / 25.4
-        self.ink = PaperInk(self.dpm)
+        self.ink = PaperInk(self.dpm, clip=clip)
 
     def font(self, size: float, bold: bool = False, italic: bool = False) -> QFont:
         return _page_font(size, self.dpi, bold, italic)
@@ -924,13 +924,16 @@ def _paint_title(page: _Page, plan: SheetPlan, sheet: int) -> None:
     page.rect(Box(t.x, t.y, t.w, t.h), 0.7)
 
 
-def paint_sheet(painter: QPainter, plan: SheetPlan, sheet: int, dpi: float) -> None:
+def paint_sheet(
+    painter: QPainter, plan: SheetPlan, sheet: int, dpi: float, clip: bool = True
+) -> None:
     """Paint sheet ``sheet`` (0 = the drawing) of a plan; the painter's device has
-    ``dpi`` device units per inch, its origin at the paper's top left corner."""
+    ``dpi`` device units per inch, its origin at the paper's top left corner. ``clip``
+    False for devices that keep no clip paths (SVG)."""
     painter.save()
     painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
     painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
-    page = _Page(painter, dpi, plan.metrics)
+    page = _Page(painter, dpi, plan.metrics, clip)
     painter.scale(page.dpm, page.dpm)
     f = plan.frame
     painter.fillRect(QRectF(0, 0, f.width, f.height), QColor("white"))
@@ -1041,7 +1044,7 @@ def svg_bytes(plan: SheetPlan, sheet: int = 0) -> bytes:
     gen.setDescription(f"Sheet {sheet + 1} of {plan.sheets}. {plan.content.caution}")
     painter = QPainter(gen)
     try:
-        paint_sheet(painter, plan, sheet, _SVG_DPI)
+        paint_sheet(painter, plan, sheet, _SVG_DPI, clip=False)
     finally:
         painter.end()
     return bytes(buf.data())
