@@ -40,7 +40,6 @@ from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence,
 from kinematics.checks import choice_problem, polygon_problem
 from kinematics.layout_keys import validate_layout_keys
 from kinematics.review import review_problems
-from kinematics.underlay import UNDERLAY_KEY, underlay_problems
 from kinematics.savefile import (
     BACKUPS_KEPT,
     ReadOnlyTargetError,
@@ -49,6 +48,7 @@ from kinematics.savefile import (
     check_target,
     save_bytes,
 )
+from kinematics.underlay import UNDERLAY_KEY, underlay_problems
 
 __all__ = [
     "FORMAT",
