@@ -1,8 +1,10 @@
 """The `export` and `import-dxf` subcommands: CAD and spreadsheet exchange without a window.
 
-``elbowroom export CELL [--dxf F] [--csv F]`` writes the cell as a DXF drawing and/or its
-targets as CSV. Each output format is one entry of :data:`EXPORTS` (option, help, writer),
-so further formats join the same subcommand with one entry.
+``elbowroom export CELL [--dxf F] [--csv F] [--pdf F] [--svg F] [--png F] [--dpi N]
+[--paper A3] [--orientation landscape] [--scale 1:10]`` writes the cell as a DXF drawing,
+its targets as CSV and its review sheets as PDF, SVG or PNG. Each output format is one
+entry of :data:`EXPORTS` (option, help, writer, the :data:`SETTINGS` it reads), so further
+formats join the same subcommand with one entry.
 
 ``elbowroom import-dxf CELL DXF --layer-kind LAYER=KIND ... [--layer-height LAYER=H ...]
 [--units U] [--recover] [--drop-missing] [-o OUT]`` merges the closed outlines on the named
@@ -19,8 +21,9 @@ import sys
 from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
-__all__ = ["Export", "EXPORTS", "export_command", "import_dxf_command"]
+__all__ = ["Export", "EXPORTS", "Setting", "SETTINGS", "export_command", "import_dxf_command"]
 
 
 class _Parser(argparse.ArgumentParser):
@@ -43,12 +46,129 @@ class Export:
         The option naming the output file, e.g. ``"--dxf"``.
     help : str
     write : callable
-        ``write(cell, path)``; raises OSError when the file cannot be written.
+        ``write(cell, path)``; raises OSError when the file cannot be written. A format
+        with ``settings`` is called ``write(cell, path, cell_path=..., cache=..., **values)``
+        (``cache`` is shared by the formats of one run).
+    settings : tuple of str
+        Keys of :data:`SETTINGS` the format reads.
     """
 
     option: str
     help: str
     write: Callable[..., None]
+    settings: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Setting:
+    """An option of ``elbowroom export`` that formats share (``--paper``, ``--dpi``, ...).
+
+    ``parse(text)`` returns the value or raises ValueError with the problem.
+    """
+
+    option: str
+    metavar: str
+    help: str
+    parse: Callable[[str], Any]
+    default: str
+
+
+def _choice(name: str, choices: tuple[str, ...]) -> Callable[[str], str]:
+    from kinematics.checks import choice_problem
+
+    def parse(text: str) -> str:
+        problem = choice_problem(text, choices)
+        if problem:
+            raise ValueError(f"{problem}, got {text!r}")
+        return text
+
+    return parse
+
+
+def _scale(text: str):
+    from app.sheet.layout import parse_scale
+
+    try:
+        return parse_scale(text)
+    except ValueError as exc:
+        raise ValueError(str(exc).removeprefix("scale ")) from None
+
+
+def _dpi(text: str) -> int:
+    from app.sheet.render import DPI_RANGE
+
+    try:
+        value = int(text)
+    except ValueError:
+        value = None
+    if value is None or not DPI_RANGE[0] <= value <= DPI_RANGE[1]:
+        raise ValueError(
+            f"must be a whole number from {DPI_RANGE[0]} to {DPI_RANGE[1]}, got {text!r}"
+        )
+    return value
+
+
+#: Options the sheet formats share, by name.
+SETTINGS: dict[str, Setting] = {
+    "paper": Setting(
+        "--paper",
+        "SIZE",
+        "review sheet paper: A4, A3, A2 or A1 (default A3)",
+        _choice("paper", ("A4", "A3", "A2", "A1")),
+        "A3",
+    ),
+    "orientation": Setting(
+        "--orientation",
+        "WAY",
+        "landscape or portrait (default landscape)",
+        _choice("orientation", ("landscape", "portrait")),
+        "landscape",
+    ),
+    "scale": Setting(
+        "--scale",
+        "SCALE",
+        "drawing scale per ISO 5455 (1:1, 1:2, 1:5, 1:10, 1:20, 1:50, ...) or fit, the "
+        "largest that fits (default)",
+        _scale,
+        "fit",
+    ),
+    "dpi": Setting("--dpi", "N", "resolution of --png sheets (default 150)", _dpi, "150"),
+}
+
+_SHEET = ("paper", "orientation", "scale")
+
+
+def _sheet_plan(cell, cell_path: Path, cache: dict, paper, orientation, scale, dpi=150):
+    """The review sheets of a cell, planned once per run (shared by --pdf, --svg, --png)."""
+    key = (paper, orientation, scale, dpi)
+    if key not in cache:
+        from app.sheet.content import SheetOptions, sheet_content
+        from app.sheet.render import plan_sheets
+        from kinematics.evaluate import evaluate_cell
+
+        if "content" not in cache:
+            cache["content"] = sheet_content(evaluate_cell(cell), cell_path)
+        options = SheetOptions(paper=paper, orientation=orientation, scale=scale, dpi=dpi)
+        cache[key] = plan_sheets(cache["content"], options)
+    return cache[key]
+
+
+def _write_pdf(cell, path: Path, *, cell_path, cache, **values) -> list[Path]:
+    from app.sheet.render import write_sheets
+
+    return write_sheets(_sheet_plan(cell, cell_path, cache, **values), pdf=path)
+
+
+def _write_svg(cell, path: Path, *, cell_path, cache, **values) -> list[Path]:
+    from app.sheet.render import write_sheets
+
+    return write_sheets(_sheet_plan(cell, cell_path, cache, **values), svg=path)
+
+
+def _write_png(cell, path: Path, *, cell_path, cache, **values) -> list[Path]:
+    from app.sheet.render import write_sheets
+
+    return write_sheets(_sheet_plan(cell, cell_path, cache, **values), png=path)
 
 
 def _write_dxf(cell, path: Path) -> None:
@@ -67,6 +187,19 @@ def _write_csv(cell, path: Path) -> None:
 EXPORTS: list[Export] = [
     Export("--dxf", "write the cell as a DXF drawing (layers ER-*, see README)", _write_dxf),
     Export("--csv", "write the targets as CSV (id, name, x, y, arm, ...)", _write_csv),
+    Export("--pdf", "write the review sheets as one vector PDF", _write_pdf, _SHEET),
+    Export(
+        "--svg",
+        "write the review sheet as SVG (further sheets beside it as NAME-2.svg, ...)",
+        _write_svg,
+        _SHEET,
+    ),
+    Export(
+        "--png",
+        "write the review sheet as PNG (further sheets as NAME-2.png, ...)",
+        _write_png,
+        (*_SHEET, "dpi"),
+    ),
 ]
 
 
@@ -95,6 +228,8 @@ def _export_parser() -> argparse.ArgumentParser:
     p.add_argument("cell", type=Path, help="a *.cell.json file")
     for e in EXPORTS:
         p.add_argument(e.option, type=Path, metavar="FILE", help=e.help)
+    for name, st in SETTINGS.items():
+        p.add_argument(st.option, dest=name, metavar=st.metavar, help=st.help)
     return p
 
 
@@ -110,6 +245,24 @@ def export_command(args: list[str]) -> int:
     if not wanted:
         options = " and/or ".join(e.option for e in EXPORTS)
         parser.error(f"nothing to export: give {options}")
+    values: dict[str, Any] = {}
+    used = {name for e, _path in wanted for name in e.settings}
+    for name, st in SETTINGS.items():
+        text = getattr(ns, name)
+        if text is not None and name not in used:
+            users = " or ".join(e.option for e in EXPORTS if name in e.settings)
+            parser.error(f"{st.option} applies to {users} only")
+        if name in used:
+            try:
+                values[name] = st.parse(text if text is not None else st.default)
+            except ValueError as exc:
+                parser.error(f"{st.option}: {exc}")
+    if "dpi" in values:
+        from app.sheet.render import png_problem
+
+        problem = png_problem(values["paper"], values["orientation"], values["dpi"])
+        if problem:
+            parser.error(f"--dpi: {problem}")
     for e, path in wanted:
         if path.is_dir():
             sys.stderr.write(f"{path}: {e.option}: is a folder; give a file name\n")
@@ -120,13 +273,20 @@ def export_command(args: list[str]) -> int:
     cell = _load_cell(ns.cell)
     if cell is None:
         return EXIT_UNUSABLE
+    cache: dict[str, Any] = {}
     for e, path in wanted:
         try:
-            e.write(cell, path)
+            if e.settings:
+                mine = {k: values[k] for k in e.settings}
+                written = e.write(cell, path, cell_path=ns.cell, cache=cache, **mine)
+            else:
+                e.write(cell, path)
+                written = [path]
         except OSError as exc:
-            sys.stderr.write(f"{path}: {e.option}: could not be written ({_os_reason(exc)})\n")
+            where = getattr(exc, "filename", None) or path
+            sys.stderr.write(f"{where}: {e.option}: could not be written ({_os_reason(exc)})\n")
             return EXIT_UNUSABLE
-        sys.stdout.write(f"wrote {path}\n")
+        sys.stdout.write("".join(f"wrote {p}\n" for p in written))
     return EXIT_OK
 
 

@@ -311,6 +311,9 @@ class ExchangeActions(QObject):
         self.act_import_csv = self._action("&Targets from CSV…", self.import_csv)
         self.act_export_dxf = self._action("Cell as &DXF Drawing…", self.export_dxf)
         self.act_export_csv = self._action("Targets as &CSV…", self.export_csv)
+        self.act_export_sheet = self._action("&Review Sheet (PDF, SVG, PNG)…", self.export_sheet)
+        self.act_title_block = self._action("&Title Block…", self.edit_title_block)
+        self.act_title_block.setToolTip("The review sheet's title-block fields (ISO 7200)")
 
     def _action(self, text: str, slot) -> QAction:
         act = QAction(text, self.window)
@@ -323,6 +326,7 @@ class ExchangeActions(QObject):
         imports.addAction(self.act_import_dxf)
         imports.addAction(self.act_import_csv)
         exports = file_menu.addMenu("E&xport")
+        exports.addAction(self.act_export_sheet)
         exports.addAction(self.act_export_dxf)
         exports.addAction(self.act_export_csv)
         return imports, exports
@@ -491,3 +495,39 @@ class ExchangeActions(QObject):
             return False
         self.window.statusBar().showMessage(f"Wrote {path}", 8000)
         return True
+
+    # ------------------------------------------------------------ review sheet
+
+    def _canvas_view(self) -> tuple[set[str], str, tuple[str, ...]]:
+        """What the canvas shows: overlays, ghost-pose mode, selection."""
+        canvas = getattr(self.window, "canvas", None)
+        if canvas is None:
+            return {"annulus"}, "all", ()
+        acts = canvas.actions()
+        modes = [m for m in ("all", "selected", "none") if f"ghosts.{m}" in acts]
+        ghosts = next((m for m in modes if acts[f"ghosts.{m}"].isChecked()), "all")
+        return canvas.overlays(), ghosts, tuple(self.document.selection.ids)
+
+    def export_sheet(self) -> None:
+        """File > Export > Review Sheet: the options dialog with its preview."""
+        from app.sheet.dialog import ReviewSheetDialog
+
+        overlays, ghosts, selection = self._canvas_view()
+        dialog = ReviewSheetDialog(self.document, overlays, ghosts, selection, self.window)
+        dialog.exec()
+        if dialog.written:
+            names = ", ".join(str(p) for p in dialog.written)
+            self.window.statusBar().showMessage(f"Wrote {names}", 8000)
+
+    def ask_title_block(self, cell: Cell) -> dict[str, str] | None:
+        from app.sheet.dialog import TitleBlockDialog
+
+        dialog = TitleBlockDialog(cell, self.window)
+        return dialog.values() if dialog.exec() == QDialog.DialogCode.Accepted else None
+
+    def edit_title_block(self) -> bool:
+        """Edit > Title Block: the review fields, one undo step."""
+        from app.sheet.dialog import edit_title_block
+
+        values = self.ask_title_block(self.document.cell)
+        return values is not None and edit_title_block(self.document, values)

@@ -327,6 +327,8 @@ class MainWindow(QMainWindow):
         edit_menu.addSeparator()
         edit_menu.addAction(self.act_delete)
         edit_menu.addAction(self.act_select_all)
+        edit_menu.addSeparator()
+        edit_menu.addAction(self.exchange.act_title_block)
 
         view_menu = bar.addMenu("&View")
         self.view_menu = view_menu

@@ -39,6 +39,7 @@ from kinematics.bodies import BodyDataError, validate_cell_bodies
 from kinematics.cell import ELBOW_SETTINGS, UNITS, Arm, Cell, Fixture, Sequence, Target
 from kinematics.checks import choice_problem, polygon_problem
 from kinematics.layout_keys import validate_layout_keys
+from kinematics.review import review_problems
 from kinematics.savefile import (
     BACKUPS_KEPT,
     ReadOnlyTargetError,
@@ -47,6 +48,7 @@ from kinematics.savefile import (
     check_target,
     save_bytes,
 )
+from kinematics.underlay import UNDERLAY_KEY, underlay_problems
 
 __all__ = [
     "FORMAT",
@@ -712,6 +714,12 @@ def _build(data: Any, decoder: _Decoder, source: str) -> Cell:
     review = None
     if "review" in data:
         review = _object(data["review"], ("review",), r)
+        # Title-block fields (kinematics/review.py); unknown keys are kept unchecked.
+        for path, what, value in review_problems(review) if review is not None else ():
+            r.add(("review", *path), what, value)
+    if UNDERLAY_KEY in data:  # the DXF drawn under the layout (kinematics/underlay.py)
+        for path, what, value in underlay_problems(data[UNDERLAY_KEY]):
+            r.add((UNDERLAY_KEY, *path), what, *(() if value is None else (value,)))
 
     arm_ids, arms_complete = _unique_ids(data.get("arms"), "arms", r)
     _unique_ids(data.get("fixtures"), "fixtures", r)

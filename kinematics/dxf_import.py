@@ -63,6 +63,9 @@ __all__ = [
     "suggested_kind",
     "fixture_id",
     "outline_points",
+    "UNDERLAY_TOL_MM",
+    "DxfUnderlay",
+    "dxf_underlay",
 ]
 
 #: Largest DXF file read, in bytes.
@@ -1130,3 +1133,181 @@ def merge_fixtures(
         unchanged=tuple(unchanged),
         removed=tuple(removed),
     )
+
+
+# --------------------------------------------------------------------------- underlay
+
+#: Largest distance between a drawn curve and the polyline the underlay draws, in mm.
+UNDERLAY_TOL_MM = 0.2
+
+
+@dataclass(frozen=True)
+class DxfUnderlay:
+    """A drawing's visible lines, for drawing it under the layout (never edited).
+
+    Attributes
+    ----------
+    source : str
+    units : str
+        The drawing units used.
+    layers : dict
+        Layer -> tuple of polylines, each an array ``(M, 2)`` in the cell's units (a
+        closed shape repeats its first point at the end).
+    notes : tuple of EntityNote
+        Entities that draw nothing here (text, images, unsupported types).
+    """
+
+    source: str
+    units: str
+    layers: dict[str, tuple[NDArray[np.float64], ...]]
+    notes: tuple[EntityNote, ...] = ()
+
+    def bounds(self) -> tuple[float, float, float, float] | None:
+        """(x0, x1, y0, y1) of every line, None when there is none."""
+        parts = [p for lines in self.layers.values() for p in lines]
+        if not parts:
+            return None
+        xy = np.concatenate(parts)
+        return (
+            float(xy[:, 0].min()),
+            float(xy[:, 0].max()),
+            float(xy[:, 1].min()),
+            float(xy[:, 1].max()),
+        )
+
+    def count(self) -> int:
+        """Number of polylines."""
+        return sum(len(lines) for lines in self.layers.values())
+
+
+class _LineCollector:
+    """Walks the model space like :class:`_Collector`, keeping every line as drawn."""
+
+    def __init__(self, tol: float, layers: set[str] | None) -> None:
+        self.tol = tol
+        self.wanted = layers
+        self.lines: dict[str, list[NDArray[np.float64]]] = {}
+        self.notes: list[EntityNote] = []
+
+    def walk(self, entities: Iterable[Any], prefix: str | None, layer0: str | None, depth: int):
+        from ezdxf import path as ezpath
+
+        for k, e in enumerate(entities):
+            handle = f"{prefix}/{k}" if prefix is not None else str(e.dxf.get("handle", "?"))
+            layer = str(e.dxf.get("layer", "0"))
+            if layer0 is not None and layer == "0":
+                layer = layer0  # block entities on layer 0 take the INSERT's layer
+            t = e.dxftype()
+            if t == "INSERT":
+                if depth >= MAX_BLOCK_DEPTH:
+                    self.notes.append(EntityNote(handle, t, layer, "blocks nested too deep"))
+                    continue
+                try:
+                    inserts = list(e.multi_insert()) if e.mcount > 1 else [e]
+                    for m, ins in enumerate(inserts):
+                        sub = f"{handle}/{m}" if len(inserts) > 1 else handle
+                        self.walk(ins.virtual_entities(), sub, layer, depth + 1)
+                except Exception as exc:  # a malformed block is a note, not a failure
+                    self.notes.append(EntityNote(handle, t, layer, f"could not be read ({exc})"))
+                continue
+            if self.wanted is not None and layer not in self.wanted:
+                continue
+            if t in _TEXT_TYPES:
+                self.notes.append(EntityNote(handle, t, layer, "text is not drawn"))
+                continue
+            try:
+                paths = ezpath.from_hatch(e) if t == "HATCH" else [ezpath.make_path(e, segments=16)]
+            except TypeError:
+                self.notes.append(EntityNote(handle, t, layer, "not a type the underlay draws"))
+                continue
+            except Exception as exc:
+                self.notes.append(EntityNote(handle, t, layer, f"could not be read ({exc})"))
+                continue
+            for p in paths:
+                for sub in p.sub_paths():
+                    pts = np.array([(v.x, v.y) for v in sub.flattening(self.tol)], dtype=float)
+                    if len(pts) >= 2 and np.isfinite(pts).all():
+                        self.lines.setdefault(layer, []).append(pts)
+
+
+def dxf_underlay(
+    path: str | os.PathLike[str],
+    *,
+    cell_units: str = "mm",
+    drawing_units: str | None = None,
+    layers: Iterable[str] | None = None,
+) -> DxfUnderlay:
+    """Every line of a drawing's model space as polylines per layer, in the cell's units.
+
+    Read with the same strict loader as :func:`read_dxf`; blocks are exploded the same
+    way (an entity on layer "0" in a block takes its INSERT's layer). Curves (arcs,
+    circles, ellipses, splines, bulges) become polylines within
+    :data:`UNDERLAY_TOL_MM`; text and unsupported entities are listed in ``notes``.
+    Points are seen from above (x and y of the world coordinates).
+
+    Parameters
+    ----------
+    path : str or path-like
+    cell_units : {"mm", "in"}
+    drawing_units : str, optional
+        The drawing's units (one of ``kinematics.dxf_units.IMPORT_UNITS``); needed when
+        its ``$INSUNITS`` is unset, and overrides it when given.
+    layers : iterable of str, optional
+        Only these layers (default: all).
+
+    Raises
+    ------
+    DxfReadError
+        When the file cannot be read (the message names the line where it broke).
+    DxfUnitsUnset
+        When the drawing does not state its units and ``drawing_units`` is None.
+
+    Examples
+    --------
+    >>> import ezdxf, tempfile
+    >>> doc = ezdxf.new(units=6)  # metres
+    >>> _ = doc.modelspace().add_line((0, 0), (2, 0), dxfattribs={"layer": "WALL"})
+    >>> _ = doc.modelspace().add_circle((1, 1), 0.5, dxfattribs={"layer": "COLUMN"})
+    >>> name = tempfile.mkdtemp() + "/hall.dxf"
+    >>> doc.saveas(name)
+    >>> u = dxf_underlay(name, cell_units="mm")
+    >>> u.units, sorted(u.layers), u.layers["WALL"][0].tolist()
+    ('m', ['COLUMN', 'WALL'], [[0.0, 0.0], [2000.0, 0.0]])
+    >>> r = np.hypot(*(u.layers["COLUMN"][0] - [1000.0, 1000.0]).T)
+    >>> bool(abs(r - 500.0).max() < UNDERLAY_TOL_MM)
+    True
+    """
+    source = Path(path).name or str(path)
+    if cell_units not in UNITS:
+        raise DxfReadError(
+            f"{source}: cell units must be one of {', '.join(UNITS)}, got {cell_units!r}"
+        )
+    if drawing_units is not None and drawing_units not in IMPORT_UNITS:
+        raise DxfReadError(
+            f"{source}: drawing units must be one of {', '.join(IMPORT_UNITS)}, "
+            f"got {drawing_units!r}"
+        )
+    _size_check(path, source)
+    doc, _notes = _load(path, source, recover=False)
+    try:
+        insunits = int(doc.header.get("$INSUNITS", UNITLESS) or UNITLESS)
+    except (TypeError, ValueError):
+        insunits = UNITLESS
+    units = drawing_units
+    if units is None:
+        units = name_of(insunits) if mm_per_drawing_unit(insunits) else None
+    if units is None or mm_per_drawing_unit(INSUNITS[units]) is None:
+        raise DxfUnitsUnset(
+            f"{source}: the drawing does not state its units ($INSUNITS is "
+            f"{unit_label(insunits)}); name them in the underlay's \"units\" "
+            f"({', '.join(IMPORT_UNITS)})"
+        )
+    mm = mm_per_drawing_unit(INSUNITS[units])
+    assert mm is not None
+    factor = mm / (25.4 if cell_units == "in" else 1.0)
+    col = _LineCollector(UNDERLAY_TOL_MM / mm, None if layers is None else set(layers))
+    col.walk(doc.modelspace(), None, None, 0)
+    out = {
+        layer: tuple(p * factor for p in lines) for layer, lines in sorted(col.lines.items())
+    }
+    return DxfUnderlay(source, units, out, tuple(col.notes))

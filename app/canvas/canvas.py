@@ -66,6 +66,7 @@ from .layers.regions import REGION_KEYS, RegionsLayer
 from .layers.spaces import OVERLAY_TITLES, SPACE_OVERLAYS, SpacesLayer
 from .layers.swept import SweptLayer
 from .layers.targets import TargetsLayer
+from .layers.underlay import UnderlayLayer
 from .legend import LegendEntry, LegendWidget
 from .qtstyle import OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
 from .view import Grid, PlanView, ScaleBar
@@ -178,6 +179,10 @@ class CellCanvas(QWidget):
             self.plot, self.vb, (self.plot.getAxis("bottom"), self.plot.getAxis("left"))
         )
         self.fixtures = FixturesLayer(self, self.plot)
+        # The cell's DXF underlay, in the background under the fixtures (not editable).
+        self.underlay = UnderlayLayer(
+            self.plot, lambda: self.document.path, self.status_message.emit
+        )
         self.spaces = SpacesLayer(self)
         self.swept = SweptLayer(self)
         self.regions = RegionsLayer(self, on_error=self.status_message.emit)
@@ -423,6 +428,9 @@ class CellCanvas(QWidget):
             act = self._action(f"overlay.{key}", text, on)
             act.setToolTip(tip)
             act.toggled.connect(lambda _on: self.refresh(all_arms=True))
+        underlay = self._action("overlay.underlay", "DXF underlay", True)
+        underlay.setToolTip("The cell's underlay drawing (key \"underlay\"), under the layout")
+        underlay.toggled.connect(lambda _on: self.refresh(all_arms=True))
         for key in SPACE_OVERLAYS:
             text, tip, on = OVERLAY_TITLES[key]
             act = self._action(f"overlay.{key}", text, on)
@@ -535,6 +543,7 @@ class CellCanvas(QWidget):
         )
         self._frame = frame
         self.fixtures.update(frame)
+        self.underlay.update(frame)
         self.bases.update(frame)
         self.regions.update(frame)
         self.ghosts.update(frame)
@@ -567,6 +576,7 @@ class CellCanvas(QWidget):
             tuple(sorted(frame.overlays)),
             tuple(sorted(self.spaces.sources.items())),
             self.playback.legend_key(),
+            tuple(e.text for e in self.underlay.legend()),
         )
         if getattr(self, "_legend_key", None) == key:
             return
@@ -616,6 +626,7 @@ class CellCanvas(QWidget):
                 e.append(LegendEntry("area", look.legend, pen=QPen(look.pen), brush=look.brush))
         e += self.spaces.legend(frame)
         e += self.playback.legend(frame)
+        e += self.underlay.legend()
         kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
         if kinds:
             e.append(LegendEntry("header", "Fixtures"))

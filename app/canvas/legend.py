@@ -15,7 +15,9 @@ from PySide6.QtWidgets import QSizePolicy, QWidget
 
 from app import style
 
-__all__ = ["LegendEntry", "LegendWidget"]
+from .draw import ScreenInk
+
+__all__ = ["LegendEntry", "LegendWidget", "paint_sample"]
 
 
 @dataclass(frozen=True)
@@ -98,37 +100,41 @@ class LegendWidget(QWidget):
         p.end()
 
     def _paint_sample(self, p: QPainter, e: LegendEntry, r: QRectF) -> None:
-        p.save()
-        if e.kind == "symbol":
-            p.translate(r.center())
-            if e.colour:
-                brush, pen = QBrush(QColor(e.colour)), QPen(QColor(style.INK), 1.0 / 11)
-            else:  # an unfilled ring in the entry's pen colour
-                ink = e.pen.color() if e.pen is not None else QColor(style.INK)
-                brush, pen = QBrush(Qt.BrushStyle.NoBrush), QPen(ink, 2.0 / 11)
-            drawSymbol(p, e.symbol, 11, pen, brush)
-        elif e.kind == "line" and e.pen is not None:
-            p.setPen(e.pen)
-            p.drawLine(QPointF(r.left(), r.center().y()), QPointF(r.right(), r.center().y()))
-        elif e.kind == "area":
-            if e.under is not None:
-                p.fillRect(r, e.under)
-            if e.brush is not None:
-                p.fillRect(r, e.brush)
-            if e.pen is not None:
-                p.setPen(e.pen)
-                p.setBrush(Qt.BrushStyle.NoBrush)
-                p.drawRect(r)
-        elif e.kind == "base":
-            c = QColor(e.colour)
-            fill = QColor(c)
-            fill.setAlphaF(0.3)
-            p.setPen(QPen(c, 2.0))
-            p.setBrush(fill)
-            centre = QPointF(r.left() + 6, r.center().y())
-            p.drawEllipse(centre, 5.0, 5.0)
-            tip = QPointF(r.right() - 4, r.center().y())
-            p.drawLine(centre, tip)
-            p.setBrush(QColor(style.PAPER))
-            p.drawEllipse(tip, 3.5, 3.5)
-        p.restore()
+        paint_sample(p, e, r)
+
+
+def paint_sample(p: QPainter, e: LegendEntry, r: QRectF, ink: ScreenInk | None = None) -> None:
+    """Paint the sample of one legend row into ``r`` (device coordinates, canvas pixel
+    sizes; ``ink`` turns them into paper on a sheet)."""
+    ink = ink or ScreenInk()
+    k = ink.px
+    p.save()
+    if e.kind == "symbol":
+        p.translate(r.center())
+        if e.colour:
+            brush, pen = QBrush(QColor(e.colour)), QPen(QColor(style.INK), 1.0 / 11)
+        else:  # an unfilled ring in the entry's pen colour
+            colour = e.pen.color() if e.pen is not None else QColor(style.INK)
+            brush, pen = QBrush(Qt.BrushStyle.NoBrush), QPen(colour, 2.0 / 11)
+        drawSymbol(p, e.symbol, 11 * k, pen, brush)
+    elif e.kind == "line" and e.pen is not None:
+        line = QPainterPath(QPointF(r.left(), r.center().y()))
+        line.lineTo(QPointF(r.right(), r.center().y()))
+        ink.stroke(p, line, e.pen)
+    elif e.kind == "area":
+        box = QPainterPath()
+        box.addRect(r)
+        ink.area(p, box, e.pen, e.brush, under=e.under)
+    elif e.kind == "base":
+        c = QColor(e.colour)
+        fill = QColor(c)
+        fill.setAlphaF(0.3)
+        p.setPen(QPen(c, 2.0 * k))
+        p.setBrush(fill)
+        centre = QPointF(r.left() + 6 * k, r.center().y())
+        p.drawEllipse(centre, 5.0 * k, 5.0 * k)
+        tip = QPointF(r.right() - 4 * k, r.center().y())
+        p.drawLine(centre, tip)
+        p.setBrush(QColor(style.PAPER))
+        p.drawEllipse(tip, 3.5 * k, 3.5 * k)
+    p.restore()

@@ -56,7 +56,7 @@ def test_export_writes_dxf_and_csv(tmp_path, capsys):
         ([], "elbowroom export: nothing to export: give --dxf and/or --csv"),
         (["--dxf", "{tmp}/no/such/x.dxf"], "--dxf: could not be written (no such folder)"),
         (["--csv", "{tmp}"], "--csv: is a folder; give a file name"),
-        (["--pdf", "x.pdf"], "elbowroom export: unrecognized arguments: --pdf x.pdf"),
+        (["--pdf", "x.pdf", "--scale", "1:3"], 'elbowroom export: --scale: must be one of "fit"'),
     ],
 )
 def test_export_bad_options_exit_2_with_one_line(args, message, tmp_path, capsys):

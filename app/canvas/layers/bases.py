@@ -5,16 +5,17 @@ from __future__ import annotations
 import math
 
 import pyqtgraph as pg
-from PySide6.QtCore import QPointF, QRectF, Qt
-from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPen
+from PySide6.QtCore import QPointF, QRectF
+from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPainter, QPainterPath, QPen
 
 from app import style
 from kinematics.cell import Arm
 
+from ..draw import ScreenInk
 from ..qtstyle import colour, cosmetic_pen
 from . import Frame, Host, Z
 
-__all__ = ["ArmItem", "BasesLayer", "base_radius"]
+__all__ = ["ArmItem", "BasesLayer", "base_radius", "paint_base"]
 
 
 def base_radius(arm: Arm) -> float:
@@ -72,55 +73,86 @@ class ArmItem(pg.GraphicsObject):
         return self._bounds.translated(self.x, self.y)
 
     def paint(self, painter, option, widget=None) -> None:
-        painter.setRenderHint(painter.RenderHint.Antialiasing, True)
-        c = self.colour_hex
-        centre = QPointF(self.x, self.y)
-        if self.selected:
-            painter.setPen(cosmetic_pen(style.PALETTE["harbour"], 9.0, alpha=0.45))
-            painter.setBrush(Qt.BrushStyle.NoBrush)
-            painter.drawEllipse(centre, self.radius, self.radius)
-        painter.setPen(cosmetic_pen(c, 2.0))
-        painter.setBrush(QBrush(colour(c, 0.30)))
-        painter.drawEllipse(centre, self.radius, self.radius)
-        hx, hy = self.handle_point()
-        tip = QPointF(hx, hy)
-        painter.setPen(cosmetic_pen(c, 2.5))
-        painter.drawLine(centre, tip)
-        # Arrow head, handle, centre cross and name in device pixels.
-        tr = painter.transform()
-        dc, dt = tr.map(centre), tr.map(tip)
-        edge = tr.map(QPointF(self.x + self.radius, self.y))
-        rad_px = math.hypot(edge.x() - dc.x(), edge.y() - dc.y())
-        painter.save()
-        painter.resetTransform()
-        ang = math.atan2(dt.y() - dc.y(), dt.x() - dc.x())
-        pen = QPen(colour(c))
-        pen.setWidthF(2.5)
-        painter.setPen(pen)
-        head = 10.0
-        for s in (-1, 1):
-            a = ang + math.pi + s * 0.45
-            painter.drawLine(dt, dt + QPointF(head * math.cos(a), head * math.sin(a)))
+        paint_base(
+            painter,
+            (self.x, self.y, self.heading),
+            self.radius,
+            self.arrow,
+            self.name,
+            self.colour_hex,
+            self._font,
+            selected=self.selected,
+        )
+
+
+def paint_base(
+    painter: QPainter,
+    pose: tuple[float, float, float],
+    radius: float,
+    arrow: float,
+    name: str,
+    colour_hex: str,
+    font: QFont,
+    selected: bool = False,
+    handle: bool = True,
+    ink: ScreenInk | None = None,
+) -> None:
+    """An arm base in world coordinates (the painter's transform): footprint circle,
+    heading arrow (with the rotate handle when ``handle``), centre cross and name.
+
+    Marks and the name keep their canvas pixel sizes (``ink`` turns pixels into paper)."""
+    ink = ink or ScreenInk()
+    k = ink.px
+    x, y, heading = pose
+    painter.save()
+    painter.setRenderHint(QPainter.RenderHint.Antialiasing, True)
+    c = colour_hex
+    centre = QPointF(x, y)
+    h = math.radians(heading)
+    tip = QPointF(x + arrow * math.cos(h), y + arrow * math.sin(h))
+    disc = QPainterPath()
+    disc.addEllipse(centre, radius, radius)
+    if selected:
+        ink.stroke(painter, disc, cosmetic_pen(style.PALETTE["harbour"], 9.0, alpha=0.45))
+    ink.area(painter, disc, cosmetic_pen(c, 2.0), QBrush(colour(c, 0.30)))
+    shaft = QPainterPath(centre)
+    shaft.lineTo(tip)
+    ink.stroke(painter, shaft, cosmetic_pen(c, 2.5))
+    # Arrow head, handle, centre cross and name in device pixels.
+    tr = painter.transform()
+    dc, dt = tr.map(centre), tr.map(tip)
+    edge = tr.map(QPointF(x + radius, y))
+    rad_px = math.hypot(edge.x() - dc.x(), edge.y() - dc.y())
+    painter.resetTransform()
+    ang = math.atan2(dt.y() - dc.y(), dt.x() - dc.x())
+    pen = QPen(colour(c))
+    pen.setWidthF(2.5 * k)
+    painter.setPen(pen)
+    head = 10.0 * k
+    for s in (-1, 1):
+        a = ang + math.pi + s * 0.45
+        painter.drawLine(dt, dt + QPointF(head * math.cos(a), head * math.sin(a)))
+    if handle:
         painter.setBrush(QBrush(QColor(style.PAPER)))
-        painter.drawEllipse(dt, 5.5, 5.5)  # rotate handle
-        painter.setPen(QPen(QColor(style.INK), 1.5))
-        painter.drawLine(dc + QPointF(-5, 0), dc + QPointF(5, 0))
-        painter.drawLine(dc + QPointF(0, -5), dc + QPointF(0, 5))
-        painter.setFont(self._font)
-        # Name on the side away from the heading arrow, clear of the footprint.
-        fm = QFontMetricsF(self._font)
-        w, h = fm.horizontalAdvance(self.name), fm.height()
-        ux, uy = -math.cos(ang), -math.sin(ang)
-        off = max(rad_px, 6.0) + 6.0
-        cx = dc.x() + ux * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
-        cy = dc.y() + uy * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
-        p = QPointF(cx - w / 2, cy - h / 2 + fm.ascent())
-        halo = QColor(style.PAPER)
-        halo.setAlphaF(0.85)
-        painter.fillRect(QRectF(p.x() - 2, p.y() - fm.ascent(), w + 4, fm.height()), halo)
-        painter.setPen(QColor(c))
-        painter.drawText(p, self.name)
-        painter.restore()
+        painter.drawEllipse(dt, 5.5 * k, 5.5 * k)  # rotate handle
+    painter.setPen(QPen(QColor(style.INK), 1.5 * k))
+    painter.drawLine(dc + QPointF(-5 * k, 0), dc + QPointF(5 * k, 0))
+    painter.drawLine(dc + QPointF(0, -5 * k), dc + QPointF(0, 5 * k))
+    painter.setFont(font)
+    # Name on the side away from the heading arrow, clear of the footprint.
+    fm = QFontMetricsF(font, painter.device())
+    w, hh = fm.horizontalAdvance(name), fm.height()
+    ux, uy = -math.cos(ang), -math.sin(ang)
+    off = max(rad_px, 6.0 * k) + 6.0 * k
+    cx = dc.x() + ux * (off + w / 2 * abs(ux) + hh / 2 * abs(uy))
+    cy = dc.y() + uy * (off + w / 2 * abs(ux) + hh / 2 * abs(uy))
+    p = QPointF(cx - w / 2, cy - hh / 2 + fm.ascent())
+    halo = QColor(style.PAPER)
+    halo.setAlphaF(0.85)
+    painter.fillRect(QRectF(p.x() - 2 * k, p.y() - fm.ascent(), w + 4 * k, fm.height()), halo)
+    painter.setPen(QColor(c))
+    painter.drawText(p, name)
+    painter.restore()
 
 
 class BasesLayer:

@@ -17,7 +17,7 @@ import math
 
 import numpy as np
 from PySide6.QtCore import QPointF, Qt
-from PySide6.QtGui import QBrush, QPainterPath
+from PySide6.QtGui import QBrush, QPainter, QPainterPath, QTransform
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem
 
 from app import style
@@ -26,13 +26,21 @@ from kinematics.ik import ELBOWS
 from kinematics.rings import rings_from_arrays
 from kinematics.wording import hit_note
 
+from ..draw import ScreenInk
 from ..paths import polygon_path, polylines_path, rings_path
 from ..qtstyle import PATTERNS, colour, cosmetic_pen
 from . import Frame, Host, Z
 from .notes import Note
 from .targets import MarkersItem
 
-__all__ = ["CONTACT_SYMBOL", "MAX_HIT_LABELS", "CollisionsLayer", "LOOKS"]
+__all__ = [
+    "CONTACT_SYMBOL",
+    "MAX_HIT_LABELS",
+    "CollisionsLayer",
+    "LOOKS",
+    "HIT_PEN",
+    "paint_collisions",
+]
 
 MAX_HIT_LABELS = 12  # more labels than this hide the drawing they explain
 _CACHE = QGraphicsItem.CacheMode.DeviceCoordinateCache
@@ -68,6 +76,67 @@ LOOKS = {
         "collides: unused configuration (///)",
     ),
 }
+
+
+#: Edge of a fixture that a shown pose or a move hits.
+HIT_PEN = cosmetic_pen(style.PALETTE["ember"], 3.0, "dash")
+#: Contact marks: filled for a failing target, hollow for an unused configuration.
+CONTACT_LOOKS = {0: (CONTACT_SYMBOL, style.PALETTE["lemon"]), 1: (CONTACT_SYMBOL, style.PAPER)}
+
+
+def paint_collisions(
+    painter: QPainter,
+    evaluation,
+    shown: dict[str, np.ndarray],
+    to_device: QTransform,
+    ink: ScreenInk | None = None,
+    move_contacts: np.ndarray | None = None,
+    move_hits=(),
+) -> set[str]:
+    """Paint the collisions of the shown ghost poses as the layer does: colliding bodies
+    ("fails", "other"), contact marks ("contact") and hit fixtures' edges ("hit"; also
+    the fixtures ``move_hits`` names, with the moves' ``move_contacts``). Returns the
+    looks drawn."""
+    from ..draw import paint_markers
+
+    ink = ink or ScreenInk()
+    drawn: set[str] = set()
+    hit: set[str] = set(move_hits)
+    contacts, kinds = [], []
+    painter.save()
+    painter.setTransform(to_device, True)
+    for aid, ev in evaluation.arms.items():
+        cs = collisions(ev, shown.get(aid))
+        if not len(cs):
+            continue
+        hit |= {ev.fixtures[int(f)].id for f in cs.fixture.tolist()}
+        for role, mask in (("other", ~cs.fails), ("fails", cs.fails)):
+            rows = np.flatnonzero(mask)
+            if not len(rows):
+                continue
+            pen, brush, _words = LOOKS[role]
+            rings = rings_from_arrays([cs.rings.ring(int(k)) for k in rows])
+            ink.area(painter, rings_path(rings, Qt.FillRule.WindingFill), pen, brush)
+            drawn.add(role)
+        if len(cs.contacts):
+            contacts.append(cs.contacts)
+            kinds.append((~cs.fails).astype(np.int64))
+    by_id = {f.id: f for f in evaluation.cell.fixtures}
+    edges = QPainterPath()
+    for fid in sorted(hit & set(by_id)):
+        edges.addPath(polygon_path(by_id[fid].outline))
+    if not edges.isEmpty():
+        ink.stroke(painter, edges, HIT_PEN)
+        drawn.add("hit")
+    painter.restore()
+    if move_contacts is not None and len(move_contacts):
+        contacts.append(np.asarray(move_contacts, dtype=float).reshape(-1, 2))
+        kinds.append(np.zeros(len(contacts[-1]), dtype=np.int64))
+    if contacts:
+        xy, kind = np.vstack(contacts), np.concatenate(kinds)
+        paint_markers(painter, xy, kind, to_device, 15.0, ink, CONTACT_LOOKS)
+        drawn.add("contact")
+    return drawn
 
 
 class CollisionsLayer:

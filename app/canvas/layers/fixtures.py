@@ -14,6 +14,7 @@ from PySide6.QtWidgets import QGraphicsPathItem
 from app import style
 from kinematics.cell import Fixture
 
+from ..draw import ScreenInk
 from ..paths import polygon_path
 from ..qtstyle import cosmetic_pen, fixture_look
 from . import Frame, Host
@@ -22,11 +23,16 @@ __all__ = ["paint_fixtures", "FixturesLayer"]
 
 
 def paint_fixtures(
-    painter: QPainter, fixtures: Sequence[Fixture], to_device: QTransform, paths: dict
+    painter: QPainter,
+    fixtures: Sequence[Fixture],
+    to_device: QTransform,
+    paths: dict,
+    ink: ScreenInk | None = None,
 ) -> None:
     """Paint fixtures (each kind's pattern and edge over a faint solid underlay).
 
-    ``paths`` caches each outline's QPainterPath by outline.
+    ``paths`` caches each outline's QPainterPath by outline; ``ink`` (a sheet's
+    :class:`~app.canvas.draw.PaperInk`) paints the same looks on another device.
     """
     painter.save()
     painter.setTransform(to_device, True)
@@ -37,6 +43,9 @@ def paint_fixtures(
             path = polygon_path(f.outline)
             paths[f.outline] = path
         look = fixture_look(f.kind)
+        if ink is not None:
+            ink.area(painter, path, look.pen, look.brush, under=look.base_brush)
+            continue
         painter.fillPath(path, look.base_brush)
         painter.setPen(look.pen)
         painter.setBrush(look.brush)

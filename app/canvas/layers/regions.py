@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from PySide6.QtGui import QPainter, QTransform
 from PySide6.QtWidgets import QGraphicsPathItem
 
 from kinematics.cell import Arm
@@ -17,11 +18,12 @@ from kinematics.regions import arm_regions
 from kinematics.report import REGION_TOL_MM
 from kinematics.rings import Rings, rings_of
 
+from ..draw import ScreenInk
 from ..paths import pose_transform, rings_path
 from ..qtstyle import OVERLAY_LOOKS
 from . import Frame, Host, Z
 
-__all__ = ["REGION_KEYS", "RegionsLayer"]
+__all__ = ["REGION_KEYS", "region_rings", "paint_regions", "RegionsLayer"]
 
 #: Region overlay kinds, in drawing order (each has an action "overlay.<kind>").
 REGION_KEYS = ("annulus", "positive", "negative", "both", "comfort")
@@ -29,6 +31,43 @@ REGION_KEYS = ("annulus", "positive", "negative", "both", "comfort")
 
 def _shape_key(arm: Arm, tol: float) -> tuple:
     return (arm.a1, arm.a2, tuple(arm.q1_limits), tuple(arm.q2_limits), arm.elbow, tol)
+
+
+def region_rings(arm: Arm, units_mm: float) -> dict[str, Rings]:
+    """Every region kind of an arm in its base frame, at the report's chord tolerance.
+
+    Raises
+    ------
+    ValueError
+        When the engine cannot build the arm's regions.
+    """
+    regs = arm_regions(replace(arm, x=0.0, y=0.0, heading_deg=0.0), REGION_TOL_MM / units_mm)
+    return {k: rings_of(getattr(regs, k)) for k in REGION_KEYS}
+
+
+def paint_regions(
+    painter: QPainter,
+    arm: Arm,
+    rings: dict[str, Rings],
+    kinds,
+    to_device: QTransform,
+    ink: ScreenInk | None = None,
+) -> list[str]:
+    """Paint an arm's region overlays (``kinds`` of :data:`REGION_KEYS`, in drawing
+    order) with the layer's looks; ``rings`` from :func:`region_rings`. Returns the kinds
+    drawn."""
+    ink = ink or ScreenInk()
+    drawn = []
+    painter.save()
+    painter.setTransform(pose_transform(arm) * to_device, True)
+    for k in REGION_KEYS:
+        if k not in kinds or rings[k].empty:
+            continue
+        look = OVERLAY_LOOKS[k]
+        ink.area(painter, rings_path(rings[k]), look.pen, look.brush)
+        drawn.append(k)
+    painter.restore()
+    return drawn
 
 
 class RegionsLayer:
@@ -48,12 +87,11 @@ class RegionsLayer:
         hit = self._rings.get(key)
         if hit is None:
             try:
-                regs = arm_regions(replace(arm, x=0.0, y=0.0, heading_deg=0.0), tol)
+                hit = region_rings(arm, units_mm)
             except ValueError as exc:  # an arm the engine cannot build regions for: none
                 if self._on_error is not None:
                     self._on_error(f"No regions for {arm.name}: {exc}")
                 return None
-            hit = {k: rings_of(getattr(regs, k)) for k in REGION_KEYS}
             if len(self._rings) > 32:
                 self._rings.clear()
             self._rings[key] = hit

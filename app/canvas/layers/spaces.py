@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtGui import QBrush, QPen
+from PySide6.QtGui import QBrush, QPainter, QPainterPath, QPen, QTransform
 from PySide6.QtWidgets import QGraphicsItem, QGraphicsPathItem
 
 from app import style
@@ -22,13 +22,22 @@ from kinematics.bodies import BodyDataError, clearance_margin, passes_over
 from kinematics.rings import Rings, anchor_near_top, rings_of
 from kinematics.spaces import local_spaces
 
+from ..draw import ScreenInk
 from ..legend import LegendEntry
 from ..paths import polygon_path, pose_transform, rings_path
 from ..qtstyle import PATTERNS, colour, cosmetic_pen
 from . import Frame, Host, Z
 from .notes import Note
 
-__all__ = ["SPACE_OVERLAYS", "OVERLAY_TITLES", "SHARED_SYMBOL", "LOOKS", "SpacesLayer"]
+__all__ = [
+    "SPACE_OVERLAYS",
+    "OVERLAY_TITLES",
+    "SHARED_SYMBOL",
+    "LOOKS",
+    "SpacesLayer",
+    "paint_spaces",
+    "paint_shared_targets",
+]
 
 #: Overlay kinds of this layer and the swept-area layer (each has an action "overlay.<kind>").
 SPACE_OVERLAYS = (
@@ -116,6 +125,105 @@ def _looks() -> dict[str, tuple[QPen, QBrush]]:
 
 
 LOOKS = _looks()
+
+
+def paint_spaces(
+    painter: QPainter,
+    cell,
+    evaluation,
+    overlays,
+    to_device: QTransform,
+    ink: ScreenInk | None = None,
+) -> tuple[list[str], dict[str, str]]:
+    """Paint the space overlays of this layer that ``overlays`` names, as the layer draws
+    them when the changes have paused: maximum and restricted spaces (placed from the
+    base frame), operating spaces, shared zones and fixtures passed over. Targets several
+    arms reach are marked by :func:`paint_shared_targets`.
+
+    Returns the looks drawn (keys of :data:`LOOKS`, in drawing order) and, per arm, where
+    its maximum space comes from.
+    """
+    ink = ink or ScreenInk()
+    drawn: list[str] = []
+    sources: dict[str, str] = {}
+
+    def area(look: str, rings: Rings, transform: QTransform | None = None) -> None:
+        if rings.empty:
+            return
+        pen, brush = LOOKS[look]
+        painter.save()
+        painter.setTransform((transform or QTransform()) * to_device, True)
+        ink.area(painter, rings_path(rings), pen, brush)
+        painter.restore()
+        if look not in drawn:
+            drawn.append(look)
+
+    for kind in ("space.maximum", "space.restricted"):
+        if kind not in overlays:
+            continue
+        for arm in cell.arms:
+            try:
+                maximum, restricted, source = local_spaces(
+                    arm, None, evaluation.store.local_spaces
+                )
+            except (BodyDataError, ValueError):
+                continue
+            sources[arm.id] = source
+            geom = maximum if kind == "space.maximum" else restricted
+            area(kind, rings_of(geom), pose_transform(arm))
+    if {"space.operating", "shared"} & set(overlays):
+        spaces = evaluation.spaces(operating=bool(cell.sequences))
+        if "space.operating" in overlays:
+            for arm in cell.arms:
+                sp = spaces.arms.get(arm.id)
+                if sp is not None and sp.operating is not None:
+                    area("space.operating", rings_of(sp.operating))
+        if "shared" in overlays:
+            for z in spaces.zones:
+                look = "shared" if z.kind == "restricted" else "shared.operating"
+                area(look, rings_of(z.geometry))
+    if "passes_over" in overlays:
+        try:
+            margin = clearance_margin(cell)
+        except BodyDataError:
+            margin = 0.0
+        over = set()
+        for arm in cell.arms:
+            ev = evaluation.arms[arm.id]
+            over |= {f.id for f, m in zip(ev.fixtures, passes_over(arm, ev.fixtures, margin)) if m}
+        path = QPainterPath()
+        for f in cell.fixtures:
+            if f.id in over:
+                path.addPath(polygon_path(f.outline))
+        if not path.isEmpty():
+            pen, brush = LOOKS["passes_over"]
+            painter.save()
+            painter.setTransform(to_device, True)
+            ink.area(painter, path, pen, brush)
+            painter.restore()
+            drawn.append("passes_over")
+    return drawn, sources
+
+
+def paint_shared_targets(
+    painter: QPainter, cell, evaluation, to_device: QTransform, ink: ScreenInk | None = None
+) -> bool:
+    """Ring the targets two or more arms reach (the layer's hexagon); True when any."""
+    from ..draw import paint_markers
+
+    if len(cell.arms) < 2:
+        return False
+    try:
+        shared = evaluation.shared_targets()
+    except BodyDataError:
+        return False
+    pts = np.array([(t.x, t.y) for t in cell.targets if t.id in shared], dtype=float)
+    if not len(pts):
+        return False
+    look = {0: (SHARED_SYMBOL, "")}
+    ring = (style.PALETTE["pine"], 2.2)
+    paint_markers(painter, pts, np.zeros(len(pts)), to_device, 24.0, ink, look, outline=ring)
+    return True
 
 
 class ShapeItems:

@@ -8,15 +8,57 @@ drawn (a fixture drag keeps the arms' joint paths) and the rest waits for the pa
 from __future__ import annotations
 
 import numpy as np
+from PySide6.QtGui import QPainter, QTransform
 
 from app import style
+from kinematics.rings import rings_of
 from kinematics.wording import move_reason
 
+from ..draw import ScreenInk
+from ..paths import rings_path
 from . import Frame, Host, Z
 from .notes import Note
-from .spaces import ShapeItems
+from .spaces import LOOKS, ShapeItems
 
-__all__ = ["SweptLayer"]
+__all__ = ["SweptLayer", "paint_swept"]
+
+
+def paint_swept(
+    painter: QPainter,
+    cell,
+    evaluation,
+    to_device: QTransform,
+    ink: ScreenInk | None = None,
+    draw_areas: bool = True,
+) -> tuple[list[str], np.ndarray, dict[str, list[str]]]:
+    """Paint the moves' swept areas as the layer does (colliding ones hatched).
+
+    Returns the looks drawn, the contact points of colliding moves and, per fixture a
+    move hits, the moves (``"from → to"``) that hit it. With ``draw_areas`` False only
+    the contacts and hits are gathered (the swept-area overlay is off).
+    """
+    ink = ink or ScreenInk()
+    drawn: list[str] = []
+    contacts, hits = [], {}
+    if not cell.sequences:
+        return drawn, np.zeros((0, 2)), hits
+    painter.save()
+    painter.setTransform(to_device, True)
+    for m in evaluation.moves(polygons=draw_areas):
+        if m.path is None or m.sweep is None:
+            continue
+        if m.collides and m.sweep.contact is not None:
+            contacts.append(m.sweep.contact.xy)
+            hits.setdefault(m.blocked_by or "", []).append(f"{m.from_id} → {m.to_id}")
+        if not draw_areas or m.sweep.swept is None:
+            continue
+        look = "swept.collides" if m.collides else "swept"
+        pen, brush = LOOKS[look]
+        ink.area(painter, rings_path(rings_of(m.sweep.swept)), pen, brush)
+        if look not in drawn:
+            drawn.append(look)
+    painter.restore()
+    return drawn, np.array(contacts, dtype=float).reshape(-1, 2), hits
 
 
 class SweptLayer:
