@@ -173,7 +173,11 @@ class Document:
     def evaluation(self) -> CellEvaluation:
         """Engine results for the current cell, computed once per change."""
         if self._evaluation is None or self._evaluation.cell is not self._cell:
-            self._evaluation = evaluate_cell(self._cell, previous=self._last_evaluation)
+            # While a drag steps the sequences are not planned (each plan sweeps moves);
+            # the evaluation is planned again once the steps pause (settle).
+            self._evaluation = evaluate_cell(
+                self._cell, previous=self._last_evaluation, plans=not self._unsettled
+            )
             self._last_evaluation = self._evaluation
         return self._evaluation
 
@@ -185,6 +189,8 @@ class Document:
     def settle(self) -> None:
         """The steps of a drag paused or ended: tell views to finish what waits for it."""
         self._unsettled = False
+        if self._evaluation is not None and not self._evaluation.planned:
+            self._evaluation = None  # made again with the plans (the rest is taken over)
         self.events.changes_paused.emit()
 
     def edit(self, label: str, after: Cell, merge_key: str | None = None) -> None:

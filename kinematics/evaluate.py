@@ -53,6 +53,7 @@ __all__ = [
     "CellEvaluation",
     "EvaluationStore",
     "fixtures_in_reach",
+    "with_plans",
     "evaluate_arm",
     "evaluate_cell",
     "evaluate_cell_arm",
@@ -124,6 +125,7 @@ class ArmEvaluation:
     base_fixture: int = -1
     plans: tuple[Any, ...] = ()
     inputs: tuple | None = field(default=None, repr=False, compare=False)
+    planned: bool = field(default=True, repr=False, compare=False)
     _closest: NDArray[np.int64] | None = field(default=None, init=False, repr=False, compare=False)
 
     @property
@@ -274,6 +276,8 @@ class CellEvaluation:
     cell: Cell
     arms: dict[str, ArmEvaluation]
     store: EvaluationStore = field(default_factory=EvaluationStore, repr=False, compare=False)
+    #: False while the sequences with speed data keep the one-configuration rule (drag steps).
+    planned: bool = True
     _where: dict[str, tuple[str, int]] = field(default_factory=dict, repr=False, compare=False)
     _memo: dict[str, Any] = field(default_factory=dict, repr=False, compare=False)
 
@@ -573,10 +577,15 @@ def _arm_inputs(cell: Cell, arm: Arm, bodies: ArmBodies) -> tuple:
 
 
 def evaluate_cell_arm(
-    cell: Cell, arm: Arm, inputs: tuple | None = None, bodies: ArmBodies | None = None
+    cell: Cell,
+    arm: Arm,
+    inputs: tuple | None = None,
+    bodies: ArmBodies | None = None,
+    plans: bool = True,
 ) -> ArmEvaluation:
     """:func:`evaluate_arm` for one arm of a cell: its targets, the fixtures within its
-    reach and the cell's margin, then one configuration per sequence where one fits.
+    reach and the cell's margin, then one configuration per sequence where one fits, then
+    (with ``plans``) the fastest plan for sequences with speed data.
 
     Messages about malformed keys name the file's JSON paths.
     """
@@ -596,15 +605,25 @@ def evaluate_cell_arm(
     )
     if ev.bodies is None:
         ev = replace(ev, bodies=bodies)
-    if not cell.sequences:
-        return ev
+    if not any(q.arm == arm.id for q in cell.sequences):
+        return replace(ev, planned=True)
     # One configuration per sequence where one fits; then, for sequences with speed data,
     # the fastest plan (kinematics.plan) replaces that rule.
-    ev = unify_sequences(ev, cell.sequences)
-    return apply_plans(ev, plan_arm(cell, ev))
+    ev = replace(unify_sequences(ev, cell.sequences), planned=False)
+    return with_plans(cell, ev) if plans else ev
 
 
-def evaluate_cell(cell: Cell, previous: CellEvaluation | None = None) -> CellEvaluation:
+def with_plans(cell: Cell, ev: ArmEvaluation) -> ArmEvaluation:
+    """An arm's evaluation with the fastest plans of its sequences applied (see
+    :func:`evaluate_cell_arm`); the evaluation itself when it has them already."""
+    if ev.planned:
+        return ev
+    return replace(apply_plans(ev, plan_arm(cell, ev)), planned=True)
+
+
+def evaluate_cell(
+    cell: Cell, previous: CellEvaluation | None = None, plans: bool = True
+) -> CellEvaluation:
     """Evaluate every arm of a cell against the targets assigned to it and the fixtures.
 
     Parameters
@@ -614,6 +633,10 @@ def evaluate_cell(cell: Cell, previous: CellEvaluation | None = None) -> CellEva
         The evaluation of an earlier state of the same document: arms whose inputs (the
         arm, its targets and sequences, the fixtures within its reach, the margin) did not
         change are taken over as they are, and its caches (moves, spaces) are shared.
+    plans : bool
+        Plan the sequences with speed data (:mod:`kinematics.plan`). Without, those
+        sequences keep the one-configuration rule: cheap enough for every step of a drag;
+        the window plans once the changes pause, ``check`` always.
 
     Examples
     --------
@@ -640,8 +663,8 @@ def evaluate_cell(cell: Cell, previous: CellEvaluation | None = None) -> CellEva
             bodies = arm_bodies(arm, f"arms[{i}]")
         inputs = _arm_inputs(cell, arm, bodies)
         if prev is not None and prev.inputs == inputs:
-            arms[arm.id] = prev
+            arms[arm.id] = with_plans(cell, prev) if plans else prev
             continue
-        ev = evaluate_cell_arm(cell, arm, inputs, bodies)
+        ev = evaluate_cell_arm(cell, arm, inputs, bodies, plans)
         arms[arm.id] = replace(ev, inputs=inputs)
-    return CellEvaluation(cell=cell, arms=arms, store=store)
+    return CellEvaluation(cell=cell, arms=arms, store=store, planned=plans)

@@ -341,7 +341,7 @@ class TargetTableModel(QStandardItemModel):
         self._set_headers()
         self._rebuild()
         document.events.cell_changed.connect(self._on_cell_changed)
-        document.events.changes_paused.connect(self.refresh_stale)
+        document.events.changes_paused.connect(self._on_paused)
 
     # ------------------------------------------------------------------ contents
 
@@ -370,6 +370,7 @@ class TargetTableModel(QStandardItemModel):
         self._evaluation = self.document.evaluation
         self._ids = [t.id for t in self.document.cell.targets]
         self._row_of = {tid: r for r, tid in enumerate(self._ids)}
+        self._units = self.document.cell.units
         self.setRowCount(0)
         self.setRowCount(len(self._ids))
         for r in range(len(self._ids)):
@@ -407,15 +408,11 @@ class TargetTableModel(QStandardItemModel):
                 self.blockSignals(False)
             self.endResetModel()
             return
-        old, new = self._evaluation, self.document.evaluation
-        self._evaluation = new
-        rows: set[int] = {self._row_of[t] for t in changes.targets if t in self._row_of}
-        for aid, ev in new.arms.items():
-            changed = _changed_rows(old.arms.get(aid), ev)
-            idx = range(len(ev.target_ids)) if changed is None else changed
-            rows.update(self._row_of[ev.target_ids[i]] for i in idx)
-        if changes.other and cell.units != old.cell.units:
+        rows = self._diff(self.document.evaluation)
+        rows |= {self._row_of[t] for t in changes.targets if t in self._row_of}
+        if changes.other and cell.units != self._units:
             rows = set(range(len(self._ids)))
+        self._units = cell.units
         self._stale |= rows
         if self.document.unsettled:
             # A drag step: the rows shown now; the others when they are shown or at the pause.
@@ -424,6 +421,22 @@ class TargetTableModel(QStandardItemModel):
             self.refresh_stale()
         if changes.other:
             self._set_headers()
+
+    def _diff(self, new: Any) -> set[int]:
+        """Rows whose verdict differs between the evaluation shown and ``new``."""
+        old, self._evaluation = self._evaluation, new
+        rows: set[int] = set()
+        for aid, ev in new.arms.items():
+            changed = _changed_rows(old.arms.get(aid), ev)
+            idx = range(len(ev.target_ids)) if changed is None else changed
+            rows.update(self._row_of[ev.target_ids[i]] for i in idx)
+        return rows
+
+    def _on_paused(self) -> None:
+        # Settling may plan the sequences (other chosen configurations): compare again.
+        if len(self._ids) == len(self.document.cell.targets):
+            self._stale |= self._diff(self.document.evaluation)
+        self.refresh_stale()
 
     def refresh_rows(self, rows) -> None:
         """Bring these rows up to date if they are stale."""

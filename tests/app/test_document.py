@@ -145,3 +145,29 @@ def test_selection_emits_only_on_change_and_drops_repeats():
     sel.set(("a", "b"))
     sel.clear()
     assert seen == [("a", "b"), ()]
+
+
+def test_plans_wait_for_the_pause_and_then_equal_check():
+    # A sequence with speed data is planned (kinematics.plan) by `check`; while a drag steps
+    # the window keeps the one-configuration rule, and once the steps pause its evaluation
+    # is the one `check` makes of the same cell.
+    from pathlib import Path
+
+    import numpy as np
+
+    from kinematics.cellfile import load_cell
+    from kinematics.evaluate import evaluate_cell
+
+    path = Path(__file__).resolve().parents[2] / "sample_cells" / "press_elbow_change.cell.json"
+    doc = Document(load_cell(path))
+    assert doc.evaluation.planned
+    arm = doc.cell.arms[0]
+    doc.preview(replace(doc.cell, arms=(replace(arm, x=arm.x + 5.0), *doc.cell.arms[1:])))
+    assert doc.unsettled and not doc.evaluation.planned
+    doc.settle()
+    assert not doc.unsettled and doc.evaluation.planned
+    fresh = evaluate_cell(doc.cell)
+    for aid, ev in fresh.arms.items():
+        mine = doc.evaluation.arms[aid]
+        assert np.array_equal(mine.chosen, ev.chosen)
+        assert [p.cycle_time_s for p in mine.plans] == [p.cycle_time_s for p in ev.plans]
