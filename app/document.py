@@ -186,6 +186,11 @@ class Document:
         """True while step-by-step changes have not paused yet (see :meth:`settle`)."""
         return self._unsettled
 
+    def hold(self) -> None:
+        """Defer what waits for a pause until :meth:`settle` (e.g. until a new window has
+        painted once: moves and plans come after the first picture)."""
+        self._unsettled = True
+
     def settle(self) -> None:
         """The steps of a drag paused or ended: tell views to finish what waits for it."""
         self._unsettled = False

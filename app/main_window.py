@@ -156,6 +156,10 @@ class MainWindow(QMainWindow):
         attach_undo_stack(self.document, self.undo_stack)
         # The one "changes paused" clock every view waits for.
         self.pause = pause_timer(self.document)
+        # Moves and plans come after the first picture (start-up shows the verdicts first):
+        # the views start as if a drag were stepping, and settle on the first event round.
+        self.document.hold()
+        QTimer.singleShot(0, self, self._first_settle)
 
         self.canvas = CellCanvas(self.document, self)
         self.canvas.setObjectName("canvas")
@@ -1128,6 +1132,10 @@ class MainWindow(QMainWindow):
             {k: a.isChecked() for k, a in self.canvas.actions().items() if a.isCheckable()}
         )
         app_settings.save_snap_pitches(self.canvas.snap_pitches())
+
+    def _first_settle(self) -> None:
+        if self.document.unsettled and not self.document.previewing:
+            self.document.settle()
 
     def closeEvent(self, event: QCloseEvent) -> None:
         if not self.maybe_save():

@@ -75,6 +75,8 @@ def make_window(qtbot, answers):
         win.resize(1400, 900)
         win.show()
         qtbot.waitExposed(win)
+        # The window paints first and plans the moves on the next turn.
+        qtbot.waitUntil(lambda: not win.document.unsettled, timeout=5000)
         return win
 
     return make

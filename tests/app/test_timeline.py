@@ -244,6 +244,8 @@ def test_main_window_shows_the_timeline_at_a_problem_time(qtbot, head_on):
     win.resize(1600, 1000)
     win.show()
     qtbot.waitExposed(win)
+    # moves are planned after the first paint
+    qtbot.waitUntil(lambda: not win.document.unsettled, timeout=5000)
     assert not win.timeline.shown and not win.timeline.clock.active  # targets in front
     assert win.timeline_dock.toggleViewAction() in win.view_menu.actions()
     (line, t), *_ = win.problems.time_problems()

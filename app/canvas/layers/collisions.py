@@ -115,7 +115,7 @@ def paint_collisions(
             if not len(rows):
                 continue
             pen, brush, _words = LOOKS[role]
-            rings = rings_from_arrays([cs.rings.ring(int(k)) for k in rows])
+            rings = cs.rings(mask)
             ink.area(painter, rings_path(rings, Qt.FillRule.WindingFill), pen, brush)
             drawn.add(role)
         if len(cs.contacts):

@@ -81,7 +81,8 @@ class SweptLayer:
             self.moves = []
             self.shapes.keep(set())
             return
-        moves = frame.evaluation.moves(polygons=True, compute=not frame.draft)
+        # Swept areas only while they are drawn; the moves (and their contacts) always.
+        moves = frame.evaluation.moves(polygons=drawn, compute=not frame.draft)
         known = {(m.arm, m.from_id, m.to_id) for m in moves}
         expected = {
             (s.arm, a, b)

@@ -252,3 +252,19 @@ def test_a_failed_write_keeps_the_existing_file(tmp_path, monkeypatch):
         "review.pdf",
         "review.svg",
     ]
+
+
+@pytest.mark.parametrize(
+    "path", sorted((REPO / "sample_cells").glob("*.cell.json")), ids=lambda p: p.stem
+)
+def test_every_sample_cell_exports_and_its_collisions_are_in_the_legend(path):
+    # A cell whose poses hit fixtures draws the colliding bodies and contact marks; the
+    # legend lists them exactly when some pose the sheet shows collides.
+    cell = load_cell(path)
+    ev = evaluate_cell(cell)
+    colliding = any(
+        bool((np.asarray(a.ik.ok) & np.asarray(a.collides)).any()) for a in ev.arms.values()
+    )
+    text = pdf_pages(pdf_bytes(plan_for(path=path, review=None, ghosts="all")))[0]
+    assert ("contact point (circled cross)" in text) == colliding
+    assert any(t.id in text for t in cell.targets)
