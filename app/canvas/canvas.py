@@ -60,10 +60,12 @@ from .layers.collisions import LOOKS as COLLISION_LOOKS
 from .layers.fixtures import FixturesLayer
 from .layers.ghosts import GhostsLayer, ghost_pen
 from .layers.notes import NoteLayer
+from .layers.placement import PlacementLayer
 from .layers.regions import REGION_KEYS, RegionsLayer
 from .layers.spaces import OVERLAY_TITLES, SPACE_OVERLAYS, SpacesLayer
 from .layers.swept import SweptLayer
 from .layers.targets import TargetsLayer
+from .layers.variant_ghosts import VARIANT_GHOST_KEY, VariantGhostsLayer
 from .legend import LegendEntry, LegendWidget
 from .qtstyle import OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
 from .view import Grid, PlanView, ScaleBar
@@ -185,6 +187,10 @@ class CellCanvas(QWidget):
         self.targets = TargetsLayer(self)
         self.notes = NoteLayer(self)
         self.vb.sigRangeChanged.connect(lambda *_a: self.notes.layout())
+        # Where to bolt the base (one arm's placement overlay) and the other layout variants.
+        self.placement = PlacementLayer(self, self.plot, self.vb)
+        self.placement.changed.connect(lambda: self._refresh_legend(self._frame))
+        self.variant_ghosts = VariantGhostsLayer(self)
 
         self._tool_item = QGraphicsPathItem()
         self._tool_item.setPen(cosmetic_pen(style.INK, 1.5, "dash"))
@@ -439,6 +445,14 @@ class CellCanvas(QWidget):
             f"than {LEGEND_MIN_PLOT_PX} pixels)"
         )
         legend.toggled.connect(lambda _on: self._place_legend())
+        place = self._action("overlay.placement", "Placement map of the selected arm", False)
+        place.setToolTip(
+            "Where the base may go: score map, placement region, best spot, tolerances"
+        )
+        place.toggled.connect(lambda on: (self.placement.set_enabled(on), self.refresh(True)))
+        ghosts_v = self._action(f"overlay.{VARIANT_GHOST_KEY}", "Other layout variants", True)
+        ghosts_v.setToolTip("Bases and links of the cell's other layout variants, faint")
+        ghosts_v.toggled.connect(lambda _on: self.refresh(all_arms=True))
         snap = self._action("snap.enabled", "Snap to grid and fixtures", True)
         snap.setToolTip(
             "Snap to the grid, fixture vertices and edge midpoints (hold Alt to suspend)"
@@ -541,6 +555,8 @@ class CellCanvas(QWidget):
         self.targets.update(frame)
         self.spaces.update(frame)
         self.swept.update(frame)
+        self.placement.update(frame)
+        self.variant_ghosts.update(frame)
         self.collisions.set_move_contacts(self.swept.contacts)
         self.collisions.mark_hits(frame, self.swept.hits, live=frame.draft)
         self.notes.set(
@@ -557,6 +573,8 @@ class CellCanvas(QWidget):
             tuple(dict.fromkeys(f.kind for f in cell.fixtures)),
             tuple(sorted(frame.overlays)),
             tuple(sorted(self.spaces.sources.items())),
+            self.placement.legend_key(),
+            bool(self.variant_ghosts.items),
         )
         if getattr(self, "_legend_key", None) == key:
             return
@@ -605,6 +623,8 @@ class CellCanvas(QWidget):
                 look = OVERLAY_LOOKS[k]
                 e.append(LegendEntry("area", look.legend, pen=QPen(look.pen), brush=look.brush))
         e += self.spaces.legend(frame)
+        e += self.placement.legend(frame)
+        e += self.variant_ghosts.legend(frame)
         kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
         if kinds:
             e.append(LegendEntry("header", "Fixtures"))
