@@ -17,6 +17,7 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QBrush, QFont
 from PySide6.QtWidgets import (
     QComboBox,
+    QGridLayout,
     QHBoxLayout,
     QHeaderView,
     QInputDialog,
@@ -24,7 +25,7 @@ from PySide6.QtWidgets import (
     QListWidget,
     QListWidgetItem,
     QPushButton,
-    QSizePolicy,
+    QSplitter,
     QTableWidget,
     QTableWidgetItem,
     QVBoxLayout,
@@ -117,19 +118,23 @@ class VariantsPanel(QWidget):
         self.runner.value.connect(self._on_rows)
         self.runner.failed.connect(self._on_failed)
 
-        lay = QVBoxLayout(self)
-        lay.setContentsMargins(4, 4, 4, 4)
+        # The list and its buttons beside the table (the dock is wide and low).
+        outer = QHBoxLayout(self)
+        outer.setContentsMargins(4, 4, 4, 4)
+        split = QSplitter(Qt.Orientation.Horizontal)
+        outer.addWidget(split)
+        left = QWidget()
+        lay = QVBoxLayout(left)
+        lay.setContentsMargins(0, 0, 0, 0)
         self.list = QListWidget()
         self.list.setObjectName("variant_list")
         self.list.setToolTip("The cell's layout variants; double-click one to switch to it")
-        self.list.setSizePolicy(QSizePolicy.Policy.Preferred, QSizePolicy.Policy.Maximum)
-        self.list.setMaximumHeight(110)
         self.list.itemDoubleClicked.connect(
             lambda it: self.switch(it.data(Qt.ItemDataRole.UserRole))
         )
         self.list.currentItemChanged.connect(lambda *_a: self._enable())
-        lay.addWidget(self.list)
-        buttons = QHBoxLayout()
+        lay.addWidget(self.list, 1)
+        buttons = QGridLayout()
         self.new_button = QPushButton("New from Current")
         self.new_button.setToolTip("Keep the current layout as a new variant (one click)")
         self.new_button.clicked.connect(lambda: self.create())
@@ -140,8 +145,10 @@ class VariantsPanel(QWidget):
         self.rename_button.clicked.connect(lambda: self.rename(self.selected()))
         self.delete_button = QPushButton("Delete")
         self.delete_button.clicked.connect(lambda: self.delete(self.selected()))
-        for b in (self.new_button, self.switch_button, self.rename_button, self.delete_button):
-            buttons.addWidget(b)
+        for k, b in enumerate(
+            (self.new_button, self.switch_button, self.rename_button, self.delete_button)
+        ):
+            buttons.addWidget(b, k // 2, k % 2)
         lay.addLayout(buttons)
         top = QHBoxLayout()
         self.arm_label = QLabel("Arm")
@@ -151,16 +158,21 @@ class VariantsPanel(QWidget):
         top.addWidget(self.arm_label)
         top.addWidget(self.arm_choice, 1)
         lay.addLayout(top)
+        self.note = QLabel()
+        self.note.setObjectName("variant_note")
+        self.note.setWordWrap(True)
+        lay.addWidget(self.note)
+        split.addWidget(left)
         self.table = QTableWidget()
         self.table.setObjectName("variant_table")
         self.table.setEditTriggers(QTableWidget.EditTrigger.NoEditTriggers)
         self.table.horizontalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
         self.table.verticalHeader().setSectionResizeMode(QHeaderView.ResizeMode.ResizeToContents)
-        lay.addWidget(self.table, 1)
-        self.note = QLabel()
-        self.note.setObjectName("variant_note")
-        self.note.setWordWrap(True)
-        lay.addWidget(self.note)
+        split.addWidget(self.table)
+        split.setStretchFactor(0, 0)
+        split.setStretchFactor(1, 1)
+        split.setSizes([300, 700])
+        self._units = document.cell.units
 
         document.events.cell_changed.connect(self._on_cell_changed)
         document.events.changes_paused.connect(self.refresh_comparison)
@@ -330,7 +342,7 @@ class VariantsPanel(QWidget):
         self.table.setColumnCount(len(layouts))
         self.table.setVerticalHeaderLabels(list(METRIC_LABELS.values()))
         better = (self.report or {}).get("better", {}).get(arm_id, {})
-        units = getattr(self, "_units", self.document.cell.units)
+        units = self._units
         bold = QFont()
         bold.setBold(True)
         tint = QBrush(mixed(style.PALETTE["pine"], 0.22))

@@ -170,13 +170,15 @@ def _arc_path(x: float, y: float, r: float, a0: float, a1: float, tick: float) -
     return path
 
 
-def _label(anchor: tuple[float, float]) -> pg.TextItem:
+def _label(anchor: tuple[float, float], width: float = 0.0) -> pg.TextItem:
     halo = QColor(style.PAPER)
     halo.setAlphaF(0.88)
     item = pg.TextItem("", color=style.INK, anchor=anchor, fill=pg.mkBrush(halo))
     font = QFont()
     font.setPointSizeF(8.5)
     item.setFont(font)
+    if width > 0:
+        item.setTextWidth(width)  # long labels wrap (pixels): a narrow view still holds them
     item.setVisible(False)
     return item
 
@@ -249,11 +251,12 @@ class PlacementLayer(QObject):
             brush=pg.mkBrush(style.PAPER), pxMode=True,
         )  # fmt: skip
         QGraphicsItem.setData(self.best_item, 0, "placement.best")  # its own setData plots
-        self.best_label = _label((-0.08, 1.15))
-        self.tolerance_label = _label((0.0, 0.0))
+        self.best_label = _label((-0.08, 1.15), 215.0)
+        self.tolerance_label = _label((0.0, 0.0), 200.0)
         self.arc_label = _label((0.5, 1.0))
         self._outline_of: PlacementRegion | None = None
         self._count = (0, 0)
+        self._targets: tuple = ()
         for item, z in (
             (self.outline, Z["overlay"] + 0.8),
             (self.tolerance_item, Z["overlay"] + 0.9),
@@ -392,6 +395,7 @@ class PlacementLayer(QObject):
             self._set_status(self._note)
             self.changed.emit()
             return
+        self._targets = cell.targets_of(arm.id)
         ev = frame.evaluation.arms.get(arm.id)
         if ev is not None:
             self._count = (int(np.count_nonzero(ev.feasible)), len(ev.target_ids))
@@ -588,6 +592,21 @@ class PlacementLayer(QObject):
             )
             painter.restore()
 
+    def _side(self, x: float, goes_right, goes_left, label=None, width_px: float = 215.0):
+        """``goes_right`` when a label of ``width_px`` fits right of x in the view, or has
+        more room there than on the left; else ``goes_left``. A ``label`` given is narrowed
+        to the room on its side (its text wraps)."""
+        (x0, x1), _ = self._vb.viewRange()
+        px = self._vb.viewPixelSize()[0] if self._vb.width() > 0 else 0.0
+        if not px > 0:
+            return goes_right
+        right, left = (x1 - x) / px, (x - x0) / px
+        to_right = right >= width_px or right >= left
+        if label is not None:
+            room = (right if to_right else left) - 14.0
+            label.setTextWidth(max(120.0, min(width_px, room)))
+        return goes_right if to_right else goes_left
+
     def _hide(self) -> None:
         for item in (
             self.outline, self.tolerance_item, self.arc_item, self.best_item, self.best_label,
@@ -618,11 +637,22 @@ class PlacementLayer(QObject):
         if b is not None and fresh:
             self.best_item.setData([b.x], [b.y])
             self.best_item.setVisible(True)
-            self.best_label.setText(
+            text = (
                 f"best spot ({length(b.x, u, unit=False)}, {length(b.y, u)})\n"
                 f"score {b.score:.2f}, {count_text(b.feasible_targets, b.targets)}"
             )
+            reg = self.region
+            if reg is not None and reg.empty and reg.bounded:
+                text += f"\nno base reaches all {b.targets} targets"
+                if reg.blocking_targets:
+                    names = {t.id: t.name for t in self._targets}
+                    gone = ", ".join(names.get(t, t) for t in reg.blocking_targets)
+                    text += f";\nwithout {gone} some base would"
+            self.best_label.setText(text)
             self.best_label.setPos(b.x, b.y)
+            self.best_label.setAnchor(
+                self._side(b.x, (-0.08, 1.15), (1.08, 1.15), self.best_label)
+            )
             self.best_label.setVisible(True)
         else:
             self.best_item.setVisible(False)
@@ -661,7 +691,9 @@ class PlacementLayer(QObject):
             self.tolerance_item.setPath(_circle_path(x, y, radius))
             self.tolerance_item.setVisible(True)
             c = math.sqrt(0.5)
-            self.tolerance_label.setPos(x + radius * c, y - radius * c)
+            right = self._side(x, True, False)
+            self.tolerance_label.setPos(x + (c if right else -c) * radius, y - radius * c)
+            self.tolerance_label.setAnchor((0.0, 0.0) if right else (1.0, 0.0))
         else:
             self.tolerance_item.setPath(QPainterPath())
             self.tolerance_item.setVisible(False)
