@@ -105,10 +105,11 @@ class LayoutActions(QObject):
         self.act_best.triggered.connect(lambda _c=False: self.move_to_best())
         self.act_weights = QAction("Placement Score &Weights…", window)
         self.act_weights.triggered.connect(lambda _c=False: self.edit_weights())
-        self.panel = VariantsPanel(window.document)
+        self.panel = VariantsPanel(window.document, shown=False)  # until its tab is in front
         self.dock = QDockWidget("Variants", window)
         self.dock.setObjectName("variants_dock")
         self.dock.setWidget(self.panel)
+        self.dock.visibilityChanged.connect(self.panel.set_shown)
         self.act_new_variant = QAction("New &Variant from Current Layout", window)
         self.act_new_variant.triggered.connect(lambda _c=False: self.panel.create())
         self._build_progress()

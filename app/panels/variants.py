@@ -107,10 +107,13 @@ class VariantsPanel(QWidget):
     Dialog hook (replaced in tests): ``ask_name(title, label, text) -> str | None``.
     """
 
-    def __init__(self, document: Document, parent: QWidget | None = None) -> None:
+    def __init__(
+        self, document: Document, parent: QWidget | None = None, *, shown: bool = True
+    ) -> None:
         super().__init__(parent)
         self.document = document
         self.ask_name = self._ask_name
+        self.shown = shown  # on screen (a dock tells, set_shown)
         self.rows: list[VariantRow] | None = None  # the comparison shown (None: not yet)
         self.report: dict | None = None
         self._compared: Cell | None = None
@@ -295,10 +298,14 @@ class VariantsPanel(QWidget):
         return self.runner.busy
 
     def refresh_comparison(self) -> None:
-        """Compute the comparison of the current state in the worker (if not done yet)."""
+        """Compute the comparison of the current state in the worker (if not done yet), once
+        the panel is on screen (hidden, it waits: the comparison costs a placement search per
+        layout and arm)."""
         cell = self.document.cell
         if self._compared is cell:
             return
+        if not self.shown:
+            return  # set_shown asks again
         self._compared = cell
         if not cell.arms:
             self.rows, self.report = [], None
@@ -306,6 +313,13 @@ class VariantsPanel(QWidget):
             return
         self.note.setText("Comparing the layouts…")
         self.runner.submit(lambda: iter([(cell, compare_variants(cell))]))
+
+    def set_shown(self, on: bool) -> None:
+        """Whether the panel is on screen (its dock's tab in front); hidden, the comparison
+        waits (it costs a placement search per layout and arm)."""
+        self.shown = bool(on)
+        if self.shown and not self.document.unsettled:
+            self.refresh_comparison()
 
     def _on_rows(self, _job: int, value) -> None:
         cell, rows = value

@@ -31,6 +31,7 @@ def window(qtbot):
     win.ask_unsaved_changes = lambda: "discard"
     qtbot.addWidget(win)
     win.show()
+    win.layout_actions.dock.raise_()  # the tab in front: the comparison is computed
     yield win
     win.layout_actions.shutdown()
 
@@ -80,6 +81,19 @@ def test_a_taken_name_is_refused_with_a_message_and_no_step(window):
     n0 = stack.count()
     panel.rename(first, other)
     assert stack.count() == n0 and "exists already" in panel.note.text()
+
+
+def test_a_hidden_panel_computes_nothing_until_shown(qtbot):
+    win = MainWindow(Document(load_cell(PRESS), None), use_settings=False)
+    win.ask_unsaved_changes = lambda: "discard"
+    qtbot.addWidget(win)
+    win.show()
+    panel = win.layout_actions.panel
+    qtbot.wait(50)
+    assert not panel.shown and panel.rows is None and not panel.busy
+    win.layout_actions.dock.raise_()
+    qtbot.waitUntil(lambda: panel.rows is not None and not panel.busy, timeout=120000)
+    win.layout_actions.shutdown()
 
 
 def test_comparison_table_shows_the_engines_numbers_and_marks_the_better(qtbot, window):
