@@ -46,6 +46,7 @@ from app.errorlog import log_internal_error
 from app.exchange_dialogs import ExchangeActions
 from app.filelock import DocumentLock, LockHolder
 from app.filewatch import FileWatch
+from app.layout_actions import LayoutActions
 from app.panels.arm_panel import ArmPanel
 from app.panels.problems import ProblemsList
 from app.panels.target_table import TargetTable
@@ -350,6 +351,10 @@ class MainWindow(QMainWindow):
         for dock in (self.arm_dock, self.table_dock, self.problems_dock, self.timeline_dock):
             view_menu.addAction(dock.toggleViewAction())
 
+        # Placement and layout variants (their own module): a Layout menu, a dock, progress.
+        self.layout_actions = LayoutActions(self)
+        self.layout_actions.add_to(bar, None, view_menu)
+
         help_menu = bar.addMenu("&Help")
         help_menu.addAction(self.act_caution)
         help_menu.addAction(self.act_about)
@@ -366,6 +371,7 @@ class MainWindow(QMainWindow):
         self.toolbar.addAction(self.canvas.actions()["snap.enabled"])
         self._build_pitch_box()
         self.toolbar.addWidget(self.pitch_box)
+        self.layout_actions.add_to_toolbar(self.toolbar)
         self.addToolBar(Qt.ToolBarArea.TopToolBarArea, self.toolbar)
         view_menu.addAction(self.toolbar.toggleViewAction())
 
@@ -1145,4 +1151,5 @@ class MainWindow(QMainWindow):
         self.autosave_timer.stop()
         self.recovery_file.remove()  # saved or discarded: nothing left to recover
         self.release_files()
+        self.layout_actions.shutdown()
         event.accept()

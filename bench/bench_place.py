@@ -84,6 +84,11 @@ def naive_pairs(arm, fixtures, link_mask, tool_radius, bases, targets):
 
     Returns, per pair, whether the target is feasible (some configuration within the
     limits whose bodies clear every blocking fixture).
+
+    Link 1 is its whole capsule here, though the engine measures its moving part (less the
+    shoulder disc) and checks the disc once as the base: the verdicts are the same, since
+    a fixture touching the whole capsule but not the moving part touches the shoulder
+    disc, and a base touching a fixture fails every target.
     """
     polys = [shapely.Polygon(f.outline) for f, m in zip(fixtures, link_mask) if m]
     a1, a2 = arm.a1, arm.a2

@@ -868,6 +868,8 @@ def pose_clearance(
     link_mask: ArrayLike,
     tool_mask: ArrayLike | None = None,
     base_xy: ArrayLike | None = None,
+    *,
+    with_base: bool = True,
 ) -> PoseClearance:
     """Clearance of the arm's moving bodies at poses ``q_deg`` against blocking fixtures.
 
@@ -889,6 +891,10 @@ def pose_clearance(
     base_xy : array_like, shape broadcastable to S + (2,), optional
         Base position of each pose instead of the arm's own (placement maps); the base
         footprint is then posed per pose like the moving bodies.
+    with_base : bool
+        With ``base_xy``: whether the base body is searched too (default). Without it the
+        clearance is the moving bodies' alone, as :func:`kinematics.evaluate.evaluate_arm`
+        reports per configuration (the base is checked once per arm there).
 
     Returns
     -------
@@ -915,7 +921,8 @@ def pose_clearance(
         bxy = np.broadcast_to(np.asarray(base_xy, dtype=float), shape + (2,)).reshape(n_all, 2)
         # Bases placed per pose (placement maps): the base moves with each pose here, so
         # it is searched like the moving bodies.
-        moving = moving + [bodies.base_index]
+        if with_base:
+            moving = moving + [bodies.base_index]
 
     vidx = np.flatnonzero(valid)
     tool_any = tmask if tmask.ndim == 1 else tmask.any(axis=0)
@@ -1004,6 +1011,8 @@ def arm_clearance(
     margin: float = 0.0,
     bodies: ArmBodies | None = None,
     base_xy: ArrayLike | None = None,
+    *,
+    with_base: bool = True,
 ) -> PoseClearance:
     """:func:`pose_clearance` for a cell arm and cell fixtures with the 2.5-D rule applied.
 
@@ -1020,6 +1029,8 @@ def arm_clearance(
         Prebuilt bodies (default: :func:`kinematics.bodies.arm_bodies`).
     base_xy : array_like, shape broadcastable to S + (2,), optional
         Base position per pose instead of the arm's own (see :func:`pose_clearance`).
+    with_base : bool
+        With ``base_xy``: search the base body too (see :func:`pose_clearance`).
 
     Examples
     --------
@@ -1044,7 +1055,7 @@ def arm_clearance(
         same = len(flat) == 0 or np.all(np.isnan(flat)) or np.all(flat == flat[0])
         # One work height (or none) for every pose: one mask row serves them all.
         tm = tool_blocking(arm, fixtures, margin, flat[0] if same and len(flat) else wh)
-    return pose_clearance(ab, fs, q, lm, tm, base_xy)
+    return pose_clearance(ab, fs, q, lm, tm, base_xy, with_base=with_base)
 
 
 def body_fixture_clearance(shape_a: ArrayLike, shape_b: ArrayLike) -> float:

@@ -46,6 +46,7 @@ __all__ = [
     "Variant",
     "mounting_zone",
     "score_weights",
+    "with_score_weights",
     "variants",
     "variant_to_json",
     "validate_layout_keys",
@@ -188,6 +189,36 @@ def score_weights(cell: Cell) -> ScoreWeights:
         )
     got = {k: _num(v[k], f"{path}.{k}", nonneg=True) for k in WEIGHT_KEYS if v.get(k) is not None}
     return ScoreWeights(**got)
+
+
+def with_score_weights(cell: Cell, weights: ScoreWeights) -> Cell:
+    """The cell with ``placement_weights`` set to ``weights`` (the key goes when every weight
+    is the default 1); a pure function for one undo step.
+
+    Raises
+    ------
+    LayoutDataError
+        When a weight is negative or not finite.
+
+    Examples
+    --------
+    >>> c = with_score_weights(Cell("c"), ScoreWeights(clearance=2.5))
+    >>> c.extra["placement_weights"], score_weights(c).clearance
+    ({'limit_margin': 1, 'reach_margin': 1, 'clearance': 2.5}, 2.5)
+    >>> "placement_weights" in with_score_weights(c, ScoreWeights()).extra
+    False
+    """
+    from dataclasses import replace
+
+    values = {
+        k: _num(getattr(weights, k), f"placement_weights.{k}", nonneg=True) for k in WEIGHT_KEYS
+    }
+    extra = dict(cell.extra)
+    if all(v == 1.0 for v in values.values()):
+        extra.pop("placement_weights", None)
+    else:
+        extra["placement_weights"] = {k: _plain(v) for k, v in values.items()}
+    return replace(cell, extra=extra)
 
 
 def _limits(v: Any, path: str) -> tuple[tuple[float, float], tuple[float, float]]:

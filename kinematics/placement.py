@@ -65,7 +65,7 @@ from .bodies import (
     work_heights,
 )
 from .cell import Arm, Cell, Fixture, Target  # noqa: F401 - Fixture for the doctests
-from .clearance import FixtureSet, arm_clearance
+from .clearance import FixtureSet, arm_clearance, pose_clearance
 from .evaluate import ArmEvaluation, choose_configuration, evaluate_arm
 from .ik import solve
 from .layout_keys import ScoreWeights, mounting_zone, score_weights
@@ -651,19 +651,37 @@ def _kernel_base(problem: PlacementProblem, cap: float, pk: Any) -> KernelData:
     )
 
 
-def _base_clearance(problem: PlacementProblem, bx: NDArray, by: NDArray, h: float) -> NDArray:
-    """Clearance of the base footprint at each base (inf without one; <= 0 touching).
+def _base_clearance(
+    problem: PlacementProblem, bx: NDArray, by: NDArray, h: float, *, engine: bool = False
+) -> NDArray:
+    """Clearance of the base body at each base (inf when nothing blocks it; <= 0 touching):
+    the same value :func:`kinematics.clearance.base_clearance` gives the arm moved there.
 
-    The footprint at b touches fixture P exactly when b is in P plus the reflected
-    footprint, and its distance to P is b's distance to that sum.
+    A base footprint at b touches fixture P exactly when b is in P plus the reflected
+    footprint, and its distance to P is b's distance to that sum. The shoulder disc (no
+    footprint) is measured point to outline, by the compiled kernel (capped at its cap) or,
+    with ``engine`` or for arms the kernel does not take, by the engine itself.
     """
-    if _footprint(problem) is None:
+    if _footprint(problem) is not None:
+        forb = _forbidden(problem, h)
+        if forb.is_empty:
+            return np.full(len(bx), np.inf)
+        d = shapely.distance(forb, shapely.points(bx, by))
+        return np.where(d > 0, d, -1.0)
+    if not problem.link_mask.any() or len(bx) == 0:
         return np.full(len(bx), np.inf)
-    forb = _forbidden(problem, h)
-    if forb.is_empty:
-        return np.full(len(bx), np.inf)
-    d = shapely.distance(forb, shapely.points(bx, by))
-    return np.where(d > 0, d, -1.0)
+    if problem.compiled and not engine:
+        from . import placement_kernel as pk
+
+        return pk.base_disc_clearance(kernel_data(problem, h), bx, by)
+    ab = problem.bodies
+    only_base = replace(ab, bodies=(ab.base,))
+    fs = FixtureSet.of(problem.cell.fixtures)
+    res = pose_clearance(
+        only_base, fs, np.zeros((len(bx), 2)), problem.link_mask,
+        base_xy=np.stack([bx, by], axis=1),
+    )  # fmt: skip
+    return res.clearance
 
 
 def pair_table(
@@ -706,19 +724,24 @@ def pair_table(
     h = _heading(problem, heading_deg)
     bx = np.asarray(bx, dtype=float).reshape(-1)
     by = np.asarray(by, dtype=float).reshape(-1)
-    base_c = _base_clearance(problem, bx, by, h)
+    base_c = _base_clearance(problem, bx, by, h, engine=engine)
     if problem.compiled and not engine:
         from . import placement_kernel as pk
 
         return pk.pair_table(kernel_data(problem, h, cap), bx, by, base_c, every)
-    return _pairs_engine(problem, bx, by, h, cap, every)
+    return _pairs_engine(problem, bx, by, h, cap, every, base_c)
 
 
 def _pairs_engine(
     problem: PlacementProblem, bx: NDArray, by: NDArray, h: float, cap: float | None,
-    every: bool,
+    every: bool, base_c: NDArray,
 ) -> tuple[NDArray, NDArray, NDArray]:  # fmt: skip
-    """:func:`pair_table` through the engine (arms with link or tool outlines)."""
+    """:func:`pair_table` through the engine (arms with link or tool outlines).
+
+    As :func:`kinematics.evaluate.evaluate_arm` at each base: the moving bodies' clearance
+    per configuration, and a base touching a blocking fixture (``base_c <= 0``) fails every
+    target.
+    """
     a = problem.arm
     width = 2.0 * problem.bodies.min_link_radius
     cap = max(problem.clearance_full, width) if cap is None else max(float(cap), width)
@@ -739,11 +762,11 @@ def _pairs_engine(
         bxy = np.stack([sx, sy], axis=-1)[:, None, None, :]
         res = arm_clearance(
             arm_h, problem.cell.fixtures, ik.q_deg, wh[None, :, None], problem.margin, bodies,
-            base_xy=np.broadcast_to(bxy, ik.q_deg.shape),
+            base_xy=np.broadcast_to(bxy, ik.q_deg.shape), with_base=False,
         )  # fmt: skip
         c = np.minimum(res.clearance, cap)
         ok = ik.ok
-        good = ok & ~res.collides
+        good = ok & ~res.collides & (base_c[k : k + step] > 0)[:, None, None]
         n = len(sx)
         ch, _ = choose_configuration(
             good.reshape(-1, 2), ik.limit_margin_deg.reshape(-1, 2), c.reshape(-1, 2), width
@@ -775,19 +798,21 @@ def _summary(
     if problem.compiled:
         from . import placement_kernel as pk
 
-        return pk.base_summary(kernel_data(problem, h), bx, by, base_c)
-    flags, fl, chosen = _pairs_engine(problem, bx, by, h, None, False)
-    feas = chosen >= 0
-    k = np.clip(chosen, 0, 1)[..., None]
-    lm = np.take_along_axis(fl[..., 2:4], k, axis=-1)[..., 0]
-    cl = np.take_along_axis(fl[..., 4:6], k, axis=-1)[..., 0]
-    inf = np.inf
-    return (
-        feas.sum(axis=1),
-        np.where(feas, lm, inf).min(axis=1),
-        np.where(feas, fl[..., 0], inf).min(axis=1),
-        np.where(feas, cl, inf).min(axis=1),
-    )
+        n, lm, rm, cl = pk.base_summary(kernel_data(problem, h), bx, by, base_c)
+    else:
+        flags, fl, chosen = _pairs_engine(problem, bx, by, h, None, False, base_c)
+        feas = chosen >= 0
+        k = np.clip(chosen, 0, 1)[..., None]
+        lmt = np.take_along_axis(fl[..., 2:4], k, axis=-1)[..., 0]
+        clt = np.take_along_axis(fl[..., 4:6], k, axis=-1)[..., 0]
+        inf = np.inf
+        n = feas.sum(axis=1)
+        lm = np.where(feas, lmt, inf).min(axis=1)
+        rm = np.where(feas, fl[..., 0], inf).min(axis=1)
+        cl = np.where(feas, clt, inf).min(axis=1)
+    # The smallest clearance counts the base body too (it is the same for every target).
+    cl = np.where(n > 0, np.minimum(cl, base_c), cl)
+    return n, lm, rm, cl
 
 
 # ---------------------------------------------------------------------------------------

@@ -172,7 +172,8 @@ class VariantRow:
     """One arm of one layout in a comparison (lengths in cell units, angles in degrees).
 
     ``None`` means not defined: no feasible target (margins, clearance), some target not
-    feasible (tolerances), nothing blocks (clearance), no cycle-time function yet.
+    feasible (tolerances), nothing blocks (clearance), no cycle time (the arm has no
+    sequence with a time: no speed data, or no plan).
     """
 
     layout: str
@@ -191,6 +192,18 @@ class VariantRow:
 def _finite(v: float) -> float | None:
     v = float(v)
     return v if math.isfinite(v) else None
+
+
+def _cycle_time(cell: Cell, arm_id: str) -> float | None:
+    """The cycle time of the arm's first sequence that has one (as ``check`` plans it)."""
+    if not any(q.arm == arm_id for q in cell.sequences):
+        return None
+    from .evaluate import evaluate_cell_arm
+
+    for plan in evaluate_cell_arm(cell, cell.arm(arm_id)).plans:
+        if plan.cycle_time_s is not None:
+            return float(plan.cycle_time_s)
+    return None
 
 
 def _layout_rows(cell: Cell, name: str) -> list[VariantRow]:
@@ -227,6 +240,7 @@ def _layout_rows(cell: Cell, name: str) -> list[VariantRow]:
                 placement_tolerance=tol.radius,
                 heading_tolerance_deg=heading_tolerance(p),
                 region_area=_finite(region.area),
+                cycle_time_s=_cycle_time(cell, a.id),
             )
         )
     return rows
@@ -309,7 +323,7 @@ def comparison_report(cell: Cell, rows: list[VariantRow] | None = None) -> dict[
         for r in rows
     ]
     better = {
-        a.id: {k: _best_layouts(rows, a.id, k) for k in BETTER if k != "cycle_time_s"}
+        a.id: {k: _best_layouts(rows, a.id, k) for k in BETTER}
         for a in cell.arms
     }
     return {
@@ -361,6 +375,8 @@ def format_comparison(report: dict[str, Any]) -> str:
                     text = f"{v[0]:.2f} / {v[1]:.2f}"
                 elif key == "region_area":
                     text = f"{v:.0f}"
+                elif key == "cycle_time_s":
+                    text = f"{v:.2f}"
                 else:
                     text = f"{v:.1f}" if isinstance(v, float) else str(v)
                 mark = " *" if n in better.get(key, []) else "  "

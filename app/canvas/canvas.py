@@ -61,12 +61,14 @@ from .layers.collisions import LOOKS as COLLISION_LOOKS
 from .layers.fixtures import FixturesLayer
 from .layers.ghosts import GhostsLayer, ghost_pen
 from .layers.notes import NoteLayer
+from .layers.placement import PlacementLayer
 from .layers.playback import PlaybackLayer
 from .layers.regions import REGION_KEYS, RegionsLayer
 from .layers.spaces import OVERLAY_TITLES, SPACE_OVERLAYS, SpacesLayer
 from .layers.swept import SweptLayer
 from .layers.targets import TargetsLayer
 from .layers.underlay import UnderlayLayer
+from .layers.variant_ghosts import VARIANT_GHOST_KEY, VariantGhostsLayer
 from .legend import LegendEntry, LegendWidget
 from .qtstyle import OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
 from .view import Grid, PlanView, ScaleBar
@@ -195,6 +197,10 @@ class CellCanvas(QWidget):
         # The arms at the playback time, while a view showing the playback is open.
         self.playback = PlaybackLayer(self, playback_clock(document))
         self.playback.clock.active_changed.connect(lambda _on: self.refresh(all_arms=True))
+        # Where to bolt the base (one arm's placement overlay) and the other layout variants.
+        self.placement = PlacementLayer(self, self.plot, self.vb)
+        self.placement.changed.connect(lambda: self._refresh_legend(self._frame))
+        self.variant_ghosts = VariantGhostsLayer(self)
 
         self._tool_item = QGraphicsPathItem()
         self._tool_item.setPen(cosmetic_pen(style.INK, 1.5, "dash"))
@@ -452,6 +458,14 @@ class CellCanvas(QWidget):
             f"than {LEGEND_MIN_PLOT_PX} pixels)"
         )
         legend.toggled.connect(lambda _on: self._place_legend())
+        place = self._action("overlay.placement", "Placement map of the selected arm", False)
+        place.setToolTip(
+            "Where the base may go: score map, placement region, best spot, tolerances"
+        )
+        place.toggled.connect(lambda on: (self.placement.set_enabled(on), self.refresh(True)))
+        ghosts_v = self._action(f"overlay.{VARIANT_GHOST_KEY}", "Other layout variants", True)
+        ghosts_v.setToolTip("Bases and links of the cell's other layout variants, faint")
+        ghosts_v.toggled.connect(lambda _on: self.refresh(all_arms=True))
         snap = self._action("snap.enabled", "Snap to grid and fixtures", True)
         snap.setToolTip(
             "Snap to the grid, fixture vertices and edge midpoints (hold Alt to suspend)"
@@ -555,6 +569,8 @@ class CellCanvas(QWidget):
         self.targets.update(frame)
         self.spaces.update(frame)
         self.swept.update(frame)
+        self.placement.update(frame)
+        self.variant_ghosts.update(frame)
         self.collisions.set_move_contacts(self.swept.contacts)
         self.playback.update(frame)
         self.collisions.mark_hits(frame, self.swept.hits, notes=not frame.draft)
@@ -577,6 +593,8 @@ class CellCanvas(QWidget):
             tuple(sorted(self.spaces.sources.items())),
             self.playback.legend_key(),
             tuple(e.text for e in self.underlay.legend()),
+            self.placement.legend_key(),
+            bool(self.variant_ghosts.items),
         )
         if getattr(self, "_legend_key", None) == key:
             return
@@ -627,6 +645,8 @@ class CellCanvas(QWidget):
         e += self.spaces.legend(frame)
         e += self.playback.legend(frame)
         e += self.underlay.legend()
+        e += self.placement.legend(frame)
+        e += self.variant_ghosts.legend(frame)
         kinds = list(dict.fromkeys(f.kind for f in cell.fixtures))
         if kinds:
             e.append(LegendEntry("header", "Fixtures"))

@@ -27,7 +27,9 @@ class LegendEntry:
     ``kind`` is "header", "symbol" (a scatter symbol name or QPainterPath in ``symbol``;
     an empty ``colour`` draws it unfilled),
     "line" (``pen``), "area" (``pen`` and ``brush``, optional ``under`` brush)
-    or "base" (an arm base glyph in ``colour``).
+    or "base" (an arm base glyph in ``colour``),
+    or "scale" (a colour bar across the legend: ``brush`` a horizontal gradient,
+    ``ticks`` its (fraction 0..1, label) marks; three rows tall).
     """
 
     kind: str
@@ -37,6 +39,12 @@ class LegendEntry:
     pen: QPen | None = None
     brush: QBrush | None = None
     under: QBrush | None = None
+    ticks: tuple[tuple[float, str], ...] = ()
+
+    @property
+    def rows(self) -> int:
+        """Rows the entry takes."""
+        return 3 if self.kind == "scale" else 1
 
 
 class LegendWidget(QWidget):
@@ -63,15 +71,21 @@ class LegendWidget(QWidget):
         return [e.text for e in self._entries]
 
     def set_entries(self, entries: list[LegendEntry]) -> None:
-        if [(e.kind, e.text) for e in entries] == [(e.kind, e.text) for e in self._entries]:
+        def sig(es: list[LegendEntry]) -> list[tuple]:
+            return [(e.kind, e.text, e.ticks) for e in es]
+
+        if sig(entries) == sig(self._entries):
             return
         self._entries = list(entries)
-        self.setMinimumHeight(int(self.ROW * len(entries) + 12))
+        self.setMinimumHeight(self._height())
         self.updateGeometry()
         self.update()
 
+    def _height(self) -> int:
+        return int(self.ROW * sum(e.rows for e in self._entries) + 12)
+
     def sizeHint(self) -> QSize:
-        return QSize(250, int(self.ROW * len(self._entries) + 12))
+        return QSize(250, self._height())
 
     def paintEvent(self, event) -> None:
         p = QPainter(self)
@@ -89,6 +103,10 @@ class LegendWidget(QWidget):
                 p.drawText(QPointF(8.0, y + fm.ascent()), e.text)
                 y += self.ROW
                 continue
+            if e.kind == "scale":
+                self._paint_scale(p, e, y, fm)
+                y += self.ROW * e.rows
+                continue
             cy = y + self.ROW / 2 - 2
             sample = QRectF(10.0, cy - 6.0, self.SAMPLE_W - 6, 12.0)
             self._paint_sample(p, e, sample)
@@ -98,6 +116,27 @@ class LegendWidget(QWidget):
             p.drawText(QPointF(12.0 + self.SAMPLE_W, cy + fm.ascent() / 2 - 1), text)
             y += self.ROW
         p.end()
+
+    def _paint_scale(self, p: QPainter, e: LegendEntry, y: float, fm: QFontMetricsF) -> None:
+        p.setFont(self._font)
+        p.setPen(QColor(style.INK))
+        text = fm.elidedText(e.text, Qt.TextElideMode.ElideRight, self.width() - 20)
+        p.drawText(QPointF(10.0, y + fm.ascent()), text)
+        bar = QRectF(12.0, y + self.ROW, self.width() - 36.0, 10.0)
+        if e.brush is not None:
+            p.fillRect(bar, e.brush)
+        p.setPen(QPen(QColor(style.INK), 1.0))
+        p.setBrush(Qt.BrushStyle.NoBrush)
+        p.drawRect(bar)
+        right = -1e9
+        for t, label in e.ticks:
+            x = bar.left() + max(0.0, min(1.0, t)) * bar.width()
+            p.drawLine(QPointF(x, bar.bottom()), QPointF(x, bar.bottom() + 3))
+            w = fm.horizontalAdvance(label)
+            lx = max(2.0, min(x - w / 2, self.width() - w - 2))
+            if lx > right + 3:  # labels that would overlap their neighbour are left out
+                p.drawText(QPointF(lx, bar.bottom() + 3 + fm.ascent()), label)
+                right = lx + w
 
     def _paint_sample(self, p: QPainter, e: LegendEntry, r: QRectF) -> None:
         paint_sample(p, e, r)

@@ -278,6 +278,134 @@ def test_kernel_agrees_with_the_engine_pair_by_pair():
     assert np.array_equal(ck[~tie], ce[~tie])
 
 
+def shoulder_cell(**arm_kw) -> Cell:
+    """Small blocking columns that bases are put beside: behind, beside and in front of the
+    shoulder, where link 1's whole capsule and its moving part (less the shoulder disc)
+    differ by up to two link radii."""
+    rng = np.random.default_rng(17)
+    r = rng.uniform(260.0, 470.0, 10)
+    a = rng.uniform(-math.pi, math.pi, 10)
+    targets = [(float(r[i] * math.cos(a[i])), float(r[i] * math.sin(a[i]))) for i in range(10)]
+    fixtures = [
+        square(0.0, -70.0, 12.0, 3000.0, fid="post_s"),
+        square(85.0, 10.0, 9.0, 3000.0, fid="post_e"),
+        Fixture("wedge", "Wedge", "fixture", ((-95, 40), (-60, 30), (-70, 75)), 900),
+        square(-20.0, 700.0, 40.0, 3000.0, fid="far_col"),
+    ]
+    kw = dict(
+        q1=(-170.0, 170.0),
+        q2=(-150.0, 150.0),
+        link_radii=(30.0, 20.0),
+        link_underside_height=600.0,
+        heading=90.0,
+        extra={"tool_body": {"radius": 15.0}},
+    )
+    kw.update(arm_kw)
+    return one_arm_cell(targets, fixtures, **kw)
+
+
+def _shoulder_bases(cell: Cell, n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    """Bases whose shoulder disc (radius 30) is near a small post: 25 to 110 from one,
+    so some overlap it (base overlap) and most leave it just behind or beside link 1."""
+    rng = np.random.default_rng(seed)
+    posts = shapely.union_all([shapely.Polygon(f.outline) for f in cell.fixtures[:3]])
+    bx, by = rng.uniform(-160, 160, 40 * n), rng.uniform(-160, 160, 40 * n)
+    d = shapely.distance(posts, shapely.points(bx, by))
+    keep = np.flatnonzero((d > 25.0) & (d < 110.0))[:n]
+    return bx[keep], by[keep]
+
+
+def test_kernel_follows_the_engine_beside_the_shoulder():
+    # The compiled kernel against the evaluation check uses at moved bases
+    # (kinematics.evaluate.evaluate_arm via placement.evaluate_at: clearance of the moving
+    # bodies, kinematics.clearance.arm_clearance; the base checked once, Status.BASE_OVERLAP),
+    # with fixtures where link 1's moving part and its whole capsule differ.
+    from kinematics.ik import Status
+
+    cell = shoulder_cell()
+    p = pl.placement_problem(cell)
+    assert p.compiled
+    bx, by = _shoulder_bases(cell, 160, 2)
+    assert len(bx) == 160
+    cap = 10.0 * p.reach  # above every clearance here: the kernel's values are uncapped
+    flags, values, chosen = pl.pair_table(p, bx, by, cap=cap, every=True)
+    whole_differs = overlap = 0
+    link1 = p.bodies.bodies[0]
+    whole = replace(p.bodies, bodies=(replace(link1, trim=0.0), *p.bodies.bodies[1:]))
+    for b in range(len(bx)):
+        ev = pl.evaluate_at(p, bx[b], by[b])
+        ik = ev.ik
+        assert np.array_equal(flags[b, :, 0], ik.reachable)
+        assert np.array_equal(flags[b, :, 1], ik.singular)
+        assert np.array_equal(flags[b, :, 2:4], ik.ok)
+        assert np.array_equal(chosen[b] >= 0, ev.feasible)
+        if ev.base_clearance <= 0:
+            overlap += 1
+            assert (ev.status == int(Status.BASE_OVERLAP)).all() and (chosen[b] < 0).all()
+        reach = ik.reachable
+        assert np.allclose(values[b, reach, 0], ik.reach_margin[reach], atol=1e-9)
+        assert np.allclose(values[b, reach, 2:4], ik.limit_margin_deg[reach], atol=1e-9)
+        kc, ec = values[b, reach, 4:6], ev.clearance[reach]
+        clear = ec > 1e-9
+        assert np.allclose(kc[clear], ec[clear], atol=1e-9)
+        hit = ec < -1e-9
+        assert (kc[hit] <= 0).all()
+        # Where the engine's choice is not a tie to rounding, the kernel chooses the same.
+        s = ev.score[reach]
+        tie = np.abs(s[:, 0] - s[:, 1]) < 1e-9
+        assert np.array_equal(chosen[b, reach][~tie], ev.chosen[reach][~tie])
+        # The same poses with link 1 as its whole capsule: often another clearance.
+        w = arm_clearance(ev.arm, cell.fixtures, ik.q_deg[reach], bodies=replace(whole, arm=ev.arm))
+        whole_differs += int(np.sum(np.abs(w.clearance - ec) > 1e-6))
+    assert overlap > 0 and overlap < len(bx)
+    assert whole_differs > 50  # the fixtures do sit where the two bodies differ
+
+
+def test_map_clearance_counts_the_base_body():
+    # The map's smallest clearance is over the chosen configurations' clearances and the
+    # base body's (the shoulder disc here), as evaluate_arm reports them (capped).
+    cell = shoulder_cell()
+    p = pl.placement_problem(cell)
+    m = pl.score_map(p, pitch=16.0, zone=shapely.box(-160, -160, 160, 160))
+    gx, gy = np.meshgrid(m.x, m.y)
+    posts = shapely.union_all([shapely.Polygon(f.outline) for f in cell.fixtures[:3]])
+    d = shapely.distance(posts, shapely.points(gx.ravel(), gy.ravel())).reshape(gx.shape)
+    rows, cols = np.nonzero((d > 25.0) & (d < 110.0))
+    assert len(rows) > 60
+    capped = base_limited = 0
+    for j, i in zip(rows[::3], cols[::3]):
+        ev = pl.evaluate_at(p, m.x[i], m.y[j])
+        assert m.feasible[j, i] == int(ev.feasible.sum())
+        if not ev.feasible.any():
+            continue
+        k = ev.chosen[ev.feasible]
+        c = ev.clearance[ev.feasible][np.arange(len(k)), k]
+        expect = min(float(c.min()), ev.base_clearance, p.clearance_full)
+        capped += int(expect == p.clearance_full)
+        base_limited += int(ev.base_clearance < min(float(c.min()), p.clearance_full))
+        assert m.clearance[j, i] == pytest.approx(expect, abs=1e-9)
+        lm = ev.ik.limit_margin_deg[ev.feasible][np.arange(len(k)), k].min()
+        assert m.limit_margin[j, i] == pytest.approx(lm, abs=1e-9)
+    assert base_limited > 0 and capped < len(rows[::3])
+
+
+def test_engine_path_follows_the_base_rule_and_the_moving_bodies():
+    # pair_table's engine path (arms with outlines) measures the same things as the kernel.
+    cell = shoulder_cell()
+    p = pl.placement_problem(cell)
+    bx, by = _shoulder_bases(cell, 120, 6)
+    cap = 10.0 * p.reach
+    fk, vk, ck = pl.pair_table(p, bx, by, cap=cap, every=True)
+    fe, ve, ce = pl.pair_table(p, bx, by, cap=cap, every=True, engine=True)
+    assert np.array_equal(fk, fe)
+    assert np.array_equal(ck >= 0, ce >= 0)
+    ok = ~np.isnan(ve[..., 4:6]) & (np.abs(ve[..., 4:6]) > 1e-9)
+    kc, ec = vk[..., 4:6], ve[..., 4:6]
+    pos = ok & (ec > 0)
+    assert pos.any() and np.allclose(kc[pos], ec[pos], atol=1e-9)
+    assert np.array_equal(kc[ok & (ec < 0)] <= 0, np.ones(int((ok & (ec < 0)).sum()), bool))
+
+
 def test_map_counts_what_check_would_report_at_each_base():
     cell = cluttered_cell()
     p = pl.placement_problem(cell)

@@ -188,3 +188,33 @@ def test_comparison_marks_the_better_layouts():
     assert better["region_area"] == ["Longer arm, base as now"]
     text = format_comparison(rep)
     assert "* marks the better value" in text and "CAUTION" in text
+
+
+def test_comparison_cycle_times_are_the_check_reports():
+    # Each layout's cycle time is the one `check` reports for it (the arm's first sequence
+    # with a time; kinematics.report runs the same plan), and the shorter one is marked.
+    from kinematics.report import check_report
+    from kinematics.variants import compare_variants
+
+    cell = load_cell(DEMO)
+    rows = compare_variants(cell)
+    for r in rows:
+        layout = cell if r.layout == CURRENT else apply_variant(cell, r.layout)
+        seqs = [s for s in check_report(layout)["sequences"] if s["arm"] == r.arm]
+        want = next(s["cycle_time_s"] for s in seqs if s["cycle_time_s"] is not None)
+        assert r.cycle_time_s == pytest.approx(want, abs=1e-6)
+    better = comparison_report(cell, rows)["better"]["tender"]["cycle_time_s"]
+    most = max(r.feasible_targets for r in rows)
+    fastest = min(r.cycle_time_s for r in rows if r.feasible_targets == most)
+    assert better == [r.layout for r in rows if r.cycle_time_s == fastest]
+
+
+def test_score_weights_written_back_read_the_same():
+    from kinematics.layout_keys import ScoreWeights, with_score_weights
+
+    cell = load_cell(DEMO)
+    w = ScoreWeights(0.5, 0.0, 3.0)
+    moved = with_score_weights(cell, w)
+    assert score_weights(parse_cell(dumps_cell(moved), "x.cell.json")) == w
+    with pytest.raises(ValueError, match=r"placement_weights.clearance: must not be negative"):
+        with_score_weights(cell, ScoreWeights(1.0, 1.0, -1.0))

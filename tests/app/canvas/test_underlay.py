@@ -45,8 +45,11 @@ def test_underlay_is_drawn_toggled_and_in_the_legend(qtbot, cell_file):
     hall = max(lines, key=len)
     assert hall[:, 0].min() == -900.0 and hall[:, 1].max() == 900.0  # mm as drawn
     assert "DXF hall.dxf (drawing only)" in canvas.legend.texts()
-    # Under the fixtures: the view paints it before them, in its cached background.
-    assert canvas.plot.background_painters[0] == canvas.underlay.paint
+    # Under the fixtures: the view paints it before them, in its cached background (over
+    # the placement heatmap, which is under everything).
+    painters = canvas.plot.background_painters
+    assert painters.index(canvas.underlay.paint) < painters.index(canvas.fixtures.paint)
+    assert painters.index(canvas.placement.paint_background) < painters.index(canvas.underlay.paint)
     canvas.actions()["overlay.underlay"].setChecked(False)
     assert canvas.underlay.lines() == [] and "Underlay" not in canvas.legend.texts()
 
