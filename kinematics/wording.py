@@ -36,6 +36,7 @@ __all__ = [
     "move_problem_text",
     "count_text",
     "hit_note",
+    "zone_text",
 ]
 
 #: The one word for a target that passes every check.
@@ -228,3 +229,23 @@ def hit_note(
 
     text = lines(fails, "hit by ") + lines(others, "other configuration: ") + list(moves)
     return "\n".join(text)
+
+
+def zone_text(names: tuple[str, str], kind: str, area: float, units: str) -> str:
+    """The sentence about a shared zone: two arms' spaces overlap, an interlock is needed.
+
+    ``names`` are the two arms' names, ``kind`` "restricted" or "operating" (ISO 10218
+    terms), ``area`` in the cell's units squared.
+
+    Examples
+    --------
+    >>> zone_text(("Left", "Right"), "restricted", 61234.5, "mm")
+    'shared zone Left + Right: restricted spaces overlap over 61,234 mm², an interlock is needed'
+    >>> zone_text(("A", "B"), "operating", 12.345, "in")
+    'shared zone A + B: operating spaces overlap over 12.35 in², an interlock is needed'
+    """
+    digits = 0 if units == "mm" else 2
+    return (
+        f"shared zone {names[0]} + {names[1]}: {kind} spaces overlap over "
+        f"{area:,.{digits}f} {units}², an interlock is needed"
+    )

@@ -34,8 +34,17 @@ from PySide6.QtWidgets import (
 
 from app.bind import EchoGuard
 from app.document import Changes, Document
+from app.interaction.sequence_edits import in_sequences
 from app.panels.text import clearance_text, degrees, length, nearest_text, status_cell
-from app.panels.validate import Invalid, check_cell, format_number, replace_target, target_with
+from app.panels.validate import (
+    TARGET_EXTRA_COLUMNS,
+    Invalid,
+    check_cell,
+    format_number,
+    replace_target,
+    target_with,
+    targets_with,
+)
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
 from kinematics.ik import Status
@@ -46,6 +55,7 @@ __all__ = [
     "SORT_ROLE",
     "PAST_LIMIT",
     "FORBIDDEN",
+    "ID_ROLE",
     "TargetTableModel",
     "TargetTable",
 ]
@@ -71,6 +81,22 @@ COLUMNS = (
     Column("x", "x", "x in the cell's units (editable)", editable=True, numeric=True),
     Column("y", "y", "y in the cell's units (editable)", editable=True, numeric=True),
     Column("arm", "arm", "Arm the target is assigned to (editable)", editable=True),
+    Column(
+        "work_height",
+        "work height",
+        "Height the tool works at (editable; empty: not given, the tool then follows the link "
+        "rule); with several rows selected an edit sets them all",
+        editable=True,
+        numeric=True,
+    ),
+    Column(
+        "dwell",
+        "dwell",
+        "Seconds spent at the target, added to the cycle time (editable; empty: 0); with "
+        "several rows selected an edit sets them all",
+        editable=True,
+        numeric=True,
+    ),
     Column("status", "status", "ok, or why the target fails"),
     Column("elbow", "elbow", "Chosen elbow configuration (both at a singular pose)"),
     Column("q1p", "q1 +", "q1, positive configuration (q2 > 0); ✕ past its limit", numeric=True),
@@ -124,7 +150,17 @@ _EDIT_LABELS = {
     "x": "Move {id}",
     "y": "Move {id}",
     "arm": "Assign {id} to arm",
+    "work_height": "Set work height of {id}",
+    "dwell": "Set dwell of {id}",
 }
+
+
+def _extra_text(t: Any, column: str, units: str) -> tuple[str, float]:
+    """Text and sort value of a work height or dwell ('' and -inf when not given)."""
+    v = t.extra.get(TARGET_EXTRA_COLUMNS[column][0])
+    if not isinstance(v, int | float) or isinstance(v, bool):
+        return "", -math.inf
+    return (length(float(v), units, False) if column == "work_height" else f"{v:g}"), float(v)
 
 
 _ROOT = QModelIndex()
@@ -171,10 +207,11 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
     try:
         ev, i = evaluation.locate(t.id)
     except KeyError:
-        text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
-        rest = len(COLUMNS) - 6
+        (wh, wh_s), (dw, dw_s) = _extra_text(t, "work_height", u), _extra_text(t, "dwell", u)
+        text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm, wh, dw]
+        rest = len(COLUMNS) - 8
         text += [f"✕ fails: no arm {t.arm!r}"] + ["—"] * rest
-        sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * rest
+        sort = [t.id, t.name, t.x, t.y, t.arm, wh_s, dw_s, 99] + [-math.inf] * rest
         return _Row(t.id, text, sort, int(Status.BEYOND_REACH), False)
     ik = ev.ik
     q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
@@ -194,12 +231,15 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
             qtext[2 * c] = f"{FORBIDDEN} {qtext[2 * c]}"
             qtext[2 * c + 1] = f"{FORBIDDEN} {qtext[2 * c + 1]}"
             ctext[c] = f"{FORBIDDEN} {ctext[c]}"
+    (wh, wh_s), (dw, dw_s) = _extra_text(t, "work_height", u), _extra_text(t, "dwell", u)
     text = [
         t.id,
         t.name,
         length(t.x, u, False),
         length(t.y, u, False),
         t.arm,
+        wh,
+        dw,
         status_cell(ev, i, u, short=True),
         elbow,
         *qtext,
@@ -209,7 +249,7 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
         length(reach, u, False),
         f"{manip:,.{0 if u == 'mm' else 1}f}" if math.isfinite(manip) else "—",
     ]
-    sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
+    sort = [t.id, t.name, t.x, t.y, t.arm, wh_s, dw_s, st, elbow, *(_num(v) for v in q)]
     sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
     sort += [_num(limit), _num(reach), _num(manip)]
     tip = status_cell(ev, i, u)
@@ -350,6 +390,10 @@ class TargetTableModel(QAbstractTableModel):
                 return f"reach\nmargin ({units})"
             if col.key == "manip":
                 return f"manipu-\nlability ({units}²)"
+            if col.key == "work_height":
+                return f"work\nheight ({units})"
+            if col.key == "dwell":
+                return "dwell\n(s)"
             return col.header
         if role == Qt.ItemDataRole.ToolTipRole:
             return col.tip
@@ -369,6 +413,9 @@ class TargetTableModel(QAbstractTableModel):
             t = self.document.cell.targets[index.row()]
             if key in ("x", "y"):
                 return format_number(getattr(t, key))
+            if key in TARGET_EXTRA_COLUMNS:
+                v = t.extra.get(TARGET_EXTRA_COLUMNS[key][0])
+                return "" if not isinstance(v, int | float) else format_number(float(v))
             return row.text[c]
         if role == SORT_ROLE:
             return row.sort[c]
@@ -418,6 +465,9 @@ class TargetTableModel(QAbstractTableModel):
             return False
         cell = self.document.cell
         target = cell.targets[index.row()]
+        ids = self.ids_for_edit(index.row()) if key != "name" else [target.id]
+        if ids != [target.id] or key == "arm":
+            return self.set_column(ids, key, str(value))
         try:
             changed = target_with(cell, target, key, str(value))
             new_cell = check_cell(replace_target(cell, changed))
@@ -429,6 +479,50 @@ class TargetTableModel(QAbstractTableModel):
             label = f"Assign {target.id} to {changed.arm}"
         self.document.edit(label, new_cell)
         return True
+
+
+    def ids_for_edit(self, row: int) -> list[str]:
+        """The targets an edit of ``row`` applies to (the view sets every selected row)."""
+        return [self._ids[row]]
+
+    def ask_sequence_place(self, target_ids: list[str], arm_id: str) -> str:
+        """Targets in a sequence go to another arm: "end" (to the end of its sequence),
+        "drop" (out of the sequence) or "cancel". Replaced by the window and by tests."""
+        from app.panels.column_edit import ask_sequence_place
+
+        return ask_sequence_place(None, self.document.cell, target_ids, arm_id)
+
+    def set_column(self, ids: list[str], key: str, text: str) -> bool:
+        """Set one editable column of several targets to the same typed value: one undo step;
+        a change of arm asks what becomes of the targets' places in sequences."""
+        cell = self.document.cell
+        place = "drop"
+        if key == "arm":
+            arm_id = text.strip()
+            known = [a.id for a in cell.arms]
+            if arm_id not in known:
+                self.refused.emit(f"✕ arm: no arm with id {arm_id!r} (arms: {', '.join(known)})")
+                return False
+            moving = [i for i in ids if self._target_arm(i) not in (None, arm_id)]
+            if not moving:
+                return False
+            placed = sorted(in_sequences(cell, moving))
+            if placed:
+                place = self.ask_sequence_place(placed, arm_id)
+                if place == "cancel":
+                    return False
+            ids = moving
+        try:
+            new_cell, label = targets_with(cell, ids, key, text, place)
+        except Invalid as exc:
+            self.refused.emit(f"✕ {exc}")
+            return False
+        self.document.edit(label, new_cell)
+        return True
+
+    def _target_arm(self, target_id: str) -> str | None:
+        r = self._row_of.get(target_id)
+        return None if r is None else self.document.cell.targets[r].arm
 
 
 class _ArmDelegate(QStyledItemDelegate):
@@ -484,6 +578,10 @@ class TargetTable(QTableView):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(False)
         self.setItemDelegateForColumn(_KEYS.index("arm"), _ArmDelegate(document, self))
+        self.source.ids_for_edit = self._ids_for_edit
+        from app.panels.column_edit import install_column_menu
+
+        install_column_menu(self)
         self.fit_columns()
 
         self.selectionModel().selectionChanged.connect(self._on_view_selection)
@@ -504,6 +602,12 @@ class TargetTable(QTableView):
         for key, cap in _COLUMN_CAPS.items():
             c = _KEYS.index(key)
             self.setColumnWidth(c, min(self.columnWidth(c), cap))
+
+    def _ids_for_edit(self, row: int) -> list[str]:
+        """An edit of a selected row sets every selected row; of another row, that row."""
+        tid = self.source.target_id(row)
+        chosen = self.selected_ids()
+        return chosen if tid in chosen and len(chosen) > 1 else [tid]
 
     def selected_ids(self) -> list[str]:
         """Target ids of the selected rows, in view order."""
