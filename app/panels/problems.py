@@ -1,4 +1,5 @@
-"""The problems list: every infeasible target, then every colliding or impossible move.
+"""The problems list: every infeasible target, then every colliding or impossible move,
+then every shared zone (two arms' restricted spaces overlap: an interlock is needed).
 
 Each entry gives the reason in words and numbers (from :mod:`kinematics.wording`).
 Clicking a target's entry selects the target and asks the canvas to centre on it;
@@ -23,10 +24,14 @@ from app.document import Changes, Document
 from app.panels.text import move_problems
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
+from kinematics.bodies import BodyDataError
 from kinematics.ik import Status
-from kinematics.wording import target_reason
+from kinematics.wording import target_reason, zone_text
 
-__all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS"]
+__all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS", "ZONE_GLYPH"]
+
+#: Marks a shared zone's entry (the hatched-grid look of the zones on the canvas).
+ZONE_GLYPH = "▦"
 
 #: Shown when every target is feasible and every move clear.
 NO_PROBLEMS = (
@@ -38,6 +43,7 @@ NO_TARGETS = "No targets yet: add targets to see what the arms reach"
 
 _ID_ROLE = Qt.ItemDataRole.UserRole
 _MOVE_ROLE = Qt.ItemDataRole.UserRole + 1
+_ZONE_ROLE = Qt.ItemDataRole.UserRole + 2
 
 _Key = tuple[str, str]  # ("t", target id) or ("m", "arm\0from\0to")
 
@@ -66,6 +72,7 @@ class ProblemsList(QListWidget):
         pause_timer(document)  # the "changes paused" clock this view waits for
         self._target_lines: list[tuple[str, str, int]] = []  # (id, line, status)
         self._move_lines: list[tuple[tuple[str, str, str], str]] = []
+        self._zone_lines: list[tuple[tuple[str, str], str]] = []
         self._shown: list[tuple[_Key, str]] = []
         self._lines_of: dict[str, tuple[object, str, bool, str]] = {}
         self._moves_stale = False
@@ -85,8 +92,12 @@ class ProblemsList(QListWidget):
 
     @property
     def count_of_problems(self) -> int:
-        """Entries listed: failing targets plus colliding or impossible moves."""
-        return len(self._target_lines) + len(self._move_lines)
+        """Entries listed: failing targets, colliding or impossible moves, shared zones."""
+        return len(self._target_lines) + len(self._move_lines) + len(self._zone_lines)
+
+    def problem_zones(self) -> list[tuple[str, str]]:
+        """The arm pairs of the shared zones listed, in order."""
+        return [key for key, _ in self._zone_lines]
 
     @property
     def failing_targets(self) -> int:
@@ -125,6 +136,7 @@ class ProblemsList(QListWidget):
         if moves:
             self._moves_stale = False
             self._move_lines = self._compute_moves()
+            self._zone_lines = self._compute_zones()
         self._target_lines = self._compute_targets(plain=self.document.unsettled)
         self._show()
 
@@ -164,6 +176,26 @@ class ProblemsList(QListWidget):
             return []
         return move_problems(cell, self.document.evaluation.moves())
 
+    def _compute_zones(self) -> list[tuple[tuple[str, str], str]]:
+        """One entry per pair of arms whose restricted spaces overlap (ISO 10218 terms):
+        they need an interlock. The operating zones lie inside these."""
+        cell = self.document.cell
+        if len(cell.arms) < 2:
+            return []
+        try:
+            zones = self.document.evaluation.spaces(operating=False).zones
+        except (BodyDataError, ValueError):
+            return []
+        names = {a.id: a.name for a in cell.arms}
+        out = []
+        for z in zones:
+            if z.kind != "restricted":
+                continue
+            a, b = z.arms
+            line = zone_text((names.get(a, a), names.get(b, b)), z.kind, z.area, cell.units)
+            out.append(((a, b), f"{ZONE_GLYPH} {line}"))
+        return out
+
     def _wanted(self) -> list[tuple[_Key, str, QBrush | None, str]]:
         out: list[tuple[_Key, str, QBrush | None, str]] = []
         for tid, line, st in self._target_lines:
@@ -174,6 +206,13 @@ class ProblemsList(QListWidget):
             colour = QColor(status_style(Status.COLLISION if collides else Status.Q2_LIMIT).colour)
             tip = f"{line}\nClick to select and show both targets of the move."
             out.append((("m", "\0".join(key)), line, QBrush(colour.darker(150)), tip))
+        for (a, b), line in self._zone_lines:
+            tip = (
+                f"{line}\nTurn on View > Overlays > Shared zones to see where; click to select "
+                "both arms."
+            )
+            brush = QBrush(QColor(PALETTE["amber"]).darker(170))
+            out.append((("z", f"{a}\0{b}"), line, brush, tip))
         if not out:
             text = NO_PROBLEMS if self.document.cell.targets else NO_TARGETS
             out.append((("none", ""), text, QBrush(QColor(PALETTE["pine"]).darker(130)), text))
@@ -215,6 +254,8 @@ class ProblemsList(QListWidget):
                 item.setData(_ID_ROLE, ident)
             elif kind == "m":
                 item.setData(_MOVE_ROLE, ident.split("\0"))
+            elif kind == "z":
+                item.setData(_ZONE_ROLE, ident.split("\0"))
             else:
                 item.setFlags(Qt.ItemFlag.ItemIsEnabled)
             item.setToolTip(tip)
@@ -230,7 +271,9 @@ class ProblemsList(QListWidget):
         if tid:
             return [tid]
         move = item.data(_MOVE_ROLE)
-        return list(dict.fromkeys(move[1:])) if move else []
+        if not move:
+            return list(item.data(_ZONE_ROLE) or [])
+        return list(dict.fromkeys(move[1:]))
 
     def _on_clicked(self, item: QListWidgetItem) -> None:
         ids = self._ids_of(item)
@@ -241,7 +284,7 @@ class ProblemsList(QListWidget):
         self._show_selection()
         if item.data(_ID_ROLE):
             self.zoom_requested.emit(ids[0])
-        else:
+        elif item.data(_MOVE_ROLE):
             self.zoom_targets_requested.emit(ids)
 
     def _on_view_selection(self) -> None:

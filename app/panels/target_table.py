@@ -97,7 +97,7 @@ COLUMNS = (
         editable=True,
         numeric=True,
     ),
-    Column("status", "status", "ok, or why the target fails"),
+    Column("status", "status", "feasible, or why the target fails"),
     Column("elbow", "elbow", "Chosen elbow configuration (both at a singular pose)"),
     Column("q1p", "q1 +", "q1, positive configuration (q2 > 0); ✕ past its limit", numeric=True),
     Column("q2p", "q2 +", "q2, positive configuration; ✕ past its limit", numeric=True),
@@ -479,7 +479,6 @@ class TargetTableModel(QAbstractTableModel):
             label = f"Assign {target.id} to {changed.arm}"
         self.document.edit(label, new_cell)
         return True
-
 
     def ids_for_edit(self, row: int) -> list[str]:
         """The targets an edit of ``row`` applies to (the view sets every selected row)."""

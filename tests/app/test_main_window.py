@@ -114,7 +114,9 @@ def test_every_sample_cell_opens_with_table_and_problems(make_window, path):
     assert win.problems.problem_ids() == [t.id for t in cell.targets if t.id in failing]
     glyphs = ("●", "✕", "◆", "▲", "▼", "■", "★", "⬟")
     assert all(text.startswith(glyphs) for text in statuses.values())
-    assert win.problems_dock.windowTitle() == f"Problems ({len(failing)})"
+    # The count covers the failing targets, bad moves and shared zones listed after them.
+    more = len(win.problems.problem_moves()) + len(win.problems.problem_zones())
+    assert win.problems_dock.windowTitle() == f"Problems ({len(failing) + more})"
 
 
 def test_problem_line_states_how_far_out_of_reach(window):
@@ -597,7 +599,8 @@ def test_mouse_drag_of_a_base_updates_table_and_problems_live_and_undoes_exactly
         assert statuses[far.id].startswith("✕ fails: beyond outer reach")
         failing = [t.id for t in win.document.cell.targets if "fails" in statuses[t.id]]
         assert win.problems.problem_ids() == failing
-        assert win.problems_dock.windowTitle() == f"Problems ({len(failing)})"
+        more = len(win.problems.problem_moves()) + len(win.problems.problem_zones())
+        assert win.problems_dock.windowTitle() == f"Problems ({len(failing) + more})"
 
     check()  # live, while the button is still down
     vp = win.canvas.viewport()
