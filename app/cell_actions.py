@@ -214,13 +214,6 @@ class CellActions(QObject):
         arm = self._arm() if arm_id is None else cell.arm(arm_id)
         if arm is None:
             return False
-        if len(cell.arms) <= 1:
-            self.window.show_error(
-                "Cannot delete the arm",
-                f"{arm.name} is the cell's only arm: a cell is built around its arms. "
-                "Add another arm first.",
-            )
-            return False
         others = [a for a in cell.arms if a.id != arm.id]
         n = len(cell.targets_of(arm.id))
         answer = self.ask_delete_arm(arm, others, n)

@@ -709,9 +709,6 @@ def _build(data: Any, decoder: _Decoder, source: str) -> Cell:
     if (v := _get(data, "units", (), r)) is not _MISSING:
         units = _choice(v, ("units",), r, UNITS)
     arms = _read_items(data, "arms", r, _read_arm, required=True)
-    if isinstance(data.get("arms"), list) and not data["arms"]:
-        # One rule for the loader, `check` and the window: a cell is built around its arms.
-        r.add(("arms",), "must hold at least one arm (a cell is built around its arms)", [])
     fixtures = _read_items(data, "fixtures", r, _read_fixture, required=True)
     targets = _read_items(data, "targets", r, _read_target, required=True)
     sequences = _read_items(data, "sequences", r, _read_sequence, required=False)

@@ -37,6 +37,7 @@ __all__ = [
     "count_text",
     "hit_note",
     "zone_text",
+    "NO_ARMS",
 ]
 
 #: The one word for a target that passes every check.
@@ -56,6 +57,10 @@ STATUS_WORDS = {
     Status.COLLISION: "collides with a fixture",
     Status.BASE_OVERLAP: "base overlaps a fixture",
 }
+
+#: Said by the check table and the window for a cell without arms (allowed: fixtures may
+#: be laid out first).
+NO_ARMS = "No arms in this cell yet: add an arm to see what it reaches."
 
 _DASH = "—"
 

@@ -487,7 +487,7 @@ class CellCanvas(QWidget):
         self.plot.viewport().setCursor(QCursor(cursor))
         hints = {
             "tool.select": "Drag bases, targets, fixtures, vertices; Shift-drag a base to turn "
-            "it; Shift-drag on empty space selects an area (Ctrl+Shift adds to it)",
+            "it; Shift-drag elsewhere selects an area (Ctrl+Shift adds to it)",
             "tool.polygon": "Click vertices; double-click or Enter finishes, Backspace undoes one",
             "tool.rectangle": "Drag a rectangle to add a fixture",
             "tool.measure": "Click two points to measure",
@@ -811,8 +811,9 @@ class CellCanvas(QWidget):
         tool = self._tool()
         if tool == "select":
             hit = self._pick(p.x, p.y)
-            if hit is None and p.shift:
-                self._band.press(p, self.document.selection.ids)  # rubber-band selection
+            if p.shift and (hit is None or hit.kind == "fixture"):
+                # Shift-drag over empty space or a fixture's area: rubber-band selection.
+                self._band.press(p, self.document.selection.ids)
                 return True
             if hit is None:
                 self._empty_press = QPointF(pos)

@@ -1,9 +1,10 @@
 """Arm edits as pure functions from cell to cell (no Qt): add, duplicate, delete.
 
-Every cell keeps at least one arm (the loader's rule, so the window and ``check`` agree):
-deleting the last one is refused. A deleted arm's targets are either deleted with it or
-given to another arm, which then also takes its sequences (in their order), so nothing
-about them is lost silently. Layout variants lose their entries for a deleted arm.
+A cell may have no arms (the loader, ``check`` and the window agree: fixtures may be laid
+out first), so the last arm can be deleted too. A deleted arm's targets are either
+deleted with it or given to another arm, which then also takes its sequences (in their
+order), so nothing about them is lost silently. Layout variants lose their entries for a
+deleted arm.
 """
 
 from __future__ import annotations
@@ -15,14 +16,10 @@ from kinematics.checks import choice_problem
 
 from .edits import unique_id, unique_name
 
-__all__ = ["LastArmError", "TARGET_CHOICES", "add_arm", "duplicate_arm", "delete_arm"]
+__all__ = ["TARGET_CHOICES", "add_arm", "duplicate_arm", "delete_arm"]
 
 #: What happens to a deleted arm's targets: deleted with it, or given to another arm.
 TARGET_CHOICES = ("delete", "reassign")
-
-
-class LastArmError(ValueError):
-    """The cell's last arm cannot go: a cell is built around its arms."""
 
 
 def _arm_ids(cell: Cell) -> set[str]:
@@ -93,8 +90,6 @@ def delete_arm(cell: Cell, arm_id: str, targets: str = "delete", to: str | None 
 
     Raises
     ------
-    LastArmError
-        When it is the cell's only arm.
     ValueError
         For an unknown choice or a ``to`` that names no other arm.
 
@@ -115,10 +110,6 @@ def delete_arm(cell: Cell, arm_id: str, targets: str = "delete", to: str | None 
     if problem is not None:
         raise ValueError(f"targets {problem}, got {targets!r}")
     cell.arm(arm_id)  # KeyError for an unknown arm
-    if len(cell.arms) <= 1:
-        raise LastArmError(
-            "a cell keeps at least one arm: add another arm before deleting this one"
-        )
     arms = tuple(a for a in cell.arms if a.id != arm_id)
     if targets == "reassign":
         if to is None or to == arm_id or to not in _arm_ids(cell):

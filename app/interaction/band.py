@@ -1,6 +1,7 @@
-"""Rubber-band selection: drag a rectangle over empty canvas to select what lies in it.
+"""Rubber-band selection: drag a rectangle over the canvas to select what lies in it.
 
-Shift-drag on empty canvas starts a band (a plain drag pans the view); releasing selects
+Shift-drag on empty canvas or over a fixture's area starts a band (a plain drag pans the
+view or moves the fixture); releasing selects
 the targets whose points lie in the rectangle, the fixtures whose whole outline does and
 the arms whose base does. With Ctrl held too, the band adds to the selection instead of
 replacing it. A band narrower than the drag threshold selects nothing new (a click).

@@ -36,6 +36,7 @@ from app.panels.validate import (
     replace_arm,
 )
 from kinematics.cell import ELBOW_SETTINGS, Arm
+from kinematics.wording import NO_ARMS
 
 __all__ = ["ArmPanel", "GROUPS", "ELBOW_WORDS"]
 
@@ -110,6 +111,11 @@ class ArmPanel(QWidget):
         self.action_row = QHBoxLayout()
         self.action_row.setContentsMargins(0, 0, 0, 0)
         outer.addLayout(self.action_row)
+        self.no_arms = QLabel(NO_ARMS + " (Cell > Add Arm…)")
+        self.no_arms.setObjectName("no_arms")
+        self.no_arms.setWordWrap(True)
+        self.no_arms.setVisible(False)
+        outer.addWidget(self.no_arms)
 
         body = QWidget()
         body_layout = QVBoxLayout(body)
@@ -237,6 +243,7 @@ class ArmPanel(QWidget):
         several = len(arms) > 1
         self.arm_choice.setVisible(several)
         self.arm_choice_label.setVisible(several)
+        self.no_arms.setVisible(not arms)
 
     def _show_arm(self) -> None:
         arm = self.arm

@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
 )
 
 from app.bind import FIELD_STYLE, INVALID_MARK
+from app.interaction.arm_edits import add_arm
 from app.panels.arm_panel import ELBOW_WORDS
 from app.panels.validate import (
     MAX_LIMIT_WIDTH,
@@ -183,7 +184,7 @@ class ArmDialog(QDialog):
         arm = replace(arm, elbow=self.elbow.currentData() or "any")
         if not problems:
             try:
-                check_cell(replace(self._cell, arms=self._cell.arms + (arm,)))
+                check_cell(add_arm(self._cell, arm)[0])  # under the id it will get
             except Invalid as exc:
                 problems[""] = str(exc)
         return arm, problems
@@ -222,8 +223,11 @@ class DeleteArmDialog(QDialog):
         group = QButtonGroup(self)
         group.addButton(self.delete)
         group.addButton(self.reassign)
-        self.reassign.setChecked(bool(targets))
-        self.delete.setChecked(not targets)
+        self.reassign.setChecked(bool(targets) and bool(others))
+        self.delete.setChecked(not (targets and others))
+        # The last arm: its targets can only go with it (a cell may have no arms).
+        self.reassign.setEnabled(bool(others))
+        self.other.setEnabled(bool(others))
         outer.addWidget(self.delete)
         outer.addWidget(self.reassign)
         outer.addWidget(self.other)

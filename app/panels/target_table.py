@@ -263,6 +263,8 @@ def _changed_rows(old: Any, new: Any) -> set[int] | None:
         return set()
     if old is None or old.target_ids != new.target_ids:
         return None
+    if not new.target_ids:
+        return set()  # an arm without targets has no rows (and empty arrays reshape badly)
     diff = np.zeros(len(new.target_ids), dtype=bool)
     for a, b in (
         (old.status, new.status),

@@ -388,7 +388,7 @@ def _delete(d: dict, path: tuple) -> None:
         (
             ("arms", 0, "link_underside_height"),
             [1],
-            "arms[0].link_underside_height: must be a number, got [1]",
+            "arms[0].link_underside_height: must be a number of 0 or more, got [1]",
         ),
         (("fixtures", 0, "kind"), "", 'fixtures[0].kind: must be a non-empty string, got ""'),
         (
