@@ -309,6 +309,11 @@ class CellCanvas(QWidget):
             self.vb.setRange(xRange=(-500, 500), yRange=(-500, 500), padding=FIT_PADDING)
             return
         xy, side, above, below = self.targets.labels.extents()
+        # The arms' names count like labels: a fit never cuts them at the edge.
+        names = self.bases.name_extents()
+        xy, side, above, below = (
+            np.concatenate([a, b]) for a, b in zip((xy, side, above, below), names)
+        )
         x0, x1, y0, y1 = fit_box(
             box, xy, side, above, below, float(self.vb.width()), float(self.vb.height())
         )
@@ -680,6 +685,9 @@ class CellCanvas(QWidget):
             c = self.world_to_viewport(item.x, item.y)
             half = 30.0 + 4.0 * len(item.name)
             out.append((c.x() - half, c.y() - 22.0, c.x() + half, c.y() + 22.0))
+            r = item.name_rect  # where the name was painted last, when it has been
+            if r is not None:
+                out.append((r.left() - 3.0, r.top() - 2.0, r.right() + 3.0, r.bottom() + 2.0))
         if len(xy) and not placed and not self._notes_retry:
             # Target labels are laid out when painted: place the notes again after that.
             self._notes_retry = True

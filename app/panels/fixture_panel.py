@@ -218,7 +218,9 @@ class FixturePanel(QWidget):
             for r, (x, y) in enumerate(pts):
                 for c, v in enumerate((x, y)):
                     item = QTableWidgetItem(format_number(v))
-                    item.setTextAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+                    item.setTextAlignment(
+                        Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter
+                    )
                     self.vertices.setItem(r, c, item)
             self.vertices.setVerticalHeaderLabels([str(r + 1) for r in range(len(pts))])
             if 0 <= keep < len(pts):

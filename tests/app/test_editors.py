@@ -7,7 +7,6 @@ that undo takes back exactly.
 
 from __future__ import annotations
 
-import math
 from pathlib import Path
 
 import pytest
@@ -20,7 +19,7 @@ from app.panels.cell_dialogs import ArmDialog, CellDialog
 from app.panels.column_edit import column_menu
 from app.panels.fixture_panel import NO_HEIGHT
 from app.panels.target_table import COLUMNS
-from kinematics.cell import Arm, Cell
+from kinematics.cell import Arm
 from kinematics.cellfile import dumps_cell, load_cell, parse_cell
 
 REPO = Path(__file__).resolve().parents[2]
@@ -294,7 +293,9 @@ def _drag_rect(qtbot, win, p0, p1) -> None:
     qtbot.mousePress(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, a)
     for i in range(1, 7):
         f = i / 6
-        qtbot.mouseMove(vp, QPoint(round(a.x() + f * (b.x() - a.x())), round(a.y() + f * (b.y() - a.y()))))
+        qtbot.mouseMove(
+            vp, QPoint(round(a.x() + f * (b.x() - a.x())), round(a.y() + f * (b.y() - a.y())))
+        )
     qtbot.mouseRelease(vp, Qt.MouseButton.LeftButton, Qt.KeyboardModifier.NoModifier, b)
 
 
@@ -331,7 +332,9 @@ def test_work_height_and_dwell_are_edited_in_the_table(make):
     assert _steps(win) == 2
     # Empty removes the key again.
     assert src.setData(src.index(row, KEYS.index("work_height")), "")
-    assert "work_height" not in next(t for t in win.document.cell.targets if t.id == "tray_a1").extra
+    assert (
+        "work_height" not in next(t for t in win.document.cell.targets if t.id == "tray_a1").extra
+    )
     for _ in range(3):
         win.undo()
     assert dumps_cell(win.document.cell) == before

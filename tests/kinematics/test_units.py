@@ -52,7 +52,11 @@ def test_converting_keeps_the_real_size_and_every_verdict(path):
     for a, b in zip(_flat_lengths(cell), _flat_lengths(conv), strict=True):
         assert b == pytest.approx(a * f, rel=1e-11, abs=1e-9)
     for a, b in zip(cell.arms, conv.arms):
-        assert (a.q1_limits, a.q2_limits, a.heading_deg) == (b.q1_limits, b.q2_limits, b.heading_deg)
+        assert (a.q1_limits, a.q2_limits, a.heading_deg) == (
+            b.q1_limits,
+            b.q2_limits,
+            b.heading_deg,
+        )
         assert a.joint_speed_dps == b.joint_speed_dps
     # Reach, limits and collisions are the same geometry in other units: same verdicts.
     before, after = check_report(cell), check_report(conv)

@@ -1,9 +1,15 @@
-"""Arm bases: footprint circle, heading arrow with a rotate handle, and the arm's name."""
+"""Arm bases: footprint circle, heading arrow with a rotate handle, and the arm's name.
+
+The name goes on the side away from the heading arrow unless that spot would cover
+another arm's base or name or leave the plot; then below, above or towards the arrow,
+whichever is clear (two-arm cells facing each other keep both names readable).
+"""
 
 from __future__ import annotations
 
 import math
 
+import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPen
@@ -15,6 +21,12 @@ from ..qtstyle import colour, cosmetic_pen
 from . import Frame, Host, Z
 
 __all__ = ["ArmItem", "BasesLayer", "base_radius"]
+
+
+def _name_font() -> QFont:
+    font = QFont()
+    font.setBold(True)
+    return font
 
 
 def base_radius(arm: Arm) -> float:
@@ -34,6 +46,8 @@ class ArmItem(pg.GraphicsObject):
         self.arrow = 1.0
         self.name = ""
         self.selected = False
+        self.neighbours: list[tuple[float, float, float]] = []  # other bases: x, y, name px
+        self.name_rect: QRectF | None = None  # where the name was painted (device pixels)
         self._bounds: QRectF | None = None
         self._font = QFont()
         self._font.setBold(True)
@@ -45,6 +59,12 @@ class ArmItem(pg.GraphicsObject):
         self.x, self.y, self.heading = float(arm.x), float(arm.y), float(arm.heading_deg)
         self.radius, self.arrow, self.name = float(radius), float(arrow), arm.name
         self.update()
+
+    def set_neighbours(self, others: list[tuple[float, float, float]]) -> None:
+        """The other arms' bases (world x, y and their names' pixel widths) to keep clear of."""
+        if others != self.neighbours:
+            self.neighbours = others
+            self.update()
 
     def set_selected(self, on: bool) -> None:
         if on != self.selected:
@@ -60,6 +80,19 @@ class ArmItem(pg.GraphicsObject):
         super().viewTransformChanged()
         self.prepareGeometryChange()  # the pixel-sized name and marks change world size
         self._bounds = None
+
+    def _view_mapping(self, tr, centre: QPointF):
+        """World point -> view pixel, and the view's pixel rectangle (None off a view)."""
+        scene = self.scene()
+        views = scene.views() if scene is not None else []
+        if not views:
+            return tr.map, None
+        view = views[0]
+
+        def to_view(p: QPointF) -> QPointF:
+            return QPointF(view.mapFromScene(self.mapToScene(p)))
+
+        return to_view, QRectF(view.viewport().rect())
 
     def boundingRect(self) -> QRectF:
         if self._bounds is None:
@@ -107,13 +140,17 @@ class ArmItem(pg.GraphicsObject):
         painter.drawLine(dc + QPointF(-5, 0), dc + QPointF(5, 0))
         painter.drawLine(dc + QPointF(0, -5), dc + QPointF(0, 5))
         painter.setFont(self._font)
-        # Name on the side away from the heading arrow, clear of the footprint.
+        # Name away from the heading arrow, clear of the footprint, other bases and the edge.
         fm = QFontMetricsF(self._font)
         w, h = fm.horizontalAdvance(self.name), fm.height()
-        ux, uy = -math.cos(ang), -math.sin(ang)
         off = max(rad_px, 6.0) + 6.0
-        cx = dc.x() + ux * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
-        cy = dc.y() + uy * (off + w / 2 * abs(ux) + h / 2 * abs(uy))
+        # Decide in the view's pixels (the item may be painted into its cache pixmap).
+        to_view, bounds = self._view_mapping(tr, centre)
+        dv = to_view(centre)
+        others = [(to_view(QPointF(x, y)), nw) for x, y, nw in self.neighbours]
+        vx, vy = _name_spot(dv, ang, off, w, h, others, bounds)
+        self.name_rect = QRectF(vx - w / 2, vy - h / 2, w, h)
+        cx, cy = vx + dc.x() - dv.x(), vy + dc.y() - dv.y()
         p = QPointF(cx - w / 2, cy - h / 2 + fm.ascent())
         halo = QColor(style.PAPER)
         halo.setAlphaF(0.85)
@@ -121,6 +158,33 @@ class ArmItem(pg.GraphicsObject):
         painter.setPen(QColor(c))
         painter.drawText(p, self.name)
         painter.restore()
+
+
+def _name_spot(dc, ang, off, w, h, others, bounds) -> tuple[float, float]:
+    """Centre of the name box: the first of away from the arrow, below, above, towards the
+    arrow that keeps clear of the other bases and their names and inside ``bounds``."""
+    best, best_cost = None, math.inf
+    for turn in (0.0, math.pi / 2, -math.pi / 2, math.pi):
+        a = ang + math.pi + turn
+        ux, uy = math.cos(a), math.sin(a)
+        reach = off + w / 2 * abs(ux) + h / 2 * abs(uy)
+        cx, cy = dc.x() + ux * reach, dc.y() + uy * reach
+        box = QRectF(cx - w / 2 - 2, cy - h / 2 - 1, w + 4, h + 2)
+        cost = 0.0
+        for c, nw in others:
+            # The other base's marks and its name (on either side of it): keep out.
+            theirs = QRectF(c.x() - nw - 30, c.y() - h, 2 * nw + 60, 2 * h)
+            inter = box.intersected(theirs)
+            if not inter.isEmpty():
+                cost += inter.width() * inter.height()
+        if bounds is not None and not bounds.contains(box):
+            inside = box.intersected(bounds)
+            cost += 2.0 * (box.width() * box.height() - inside.width() * inside.height())
+        if cost < best_cost - 1e-9:
+            best, best_cost = (cx, cy), cost
+        if cost <= 0:
+            break
+    return best
 
 
 class BasesLayer:
@@ -150,6 +214,24 @@ class BasesLayer:
                 item.set_arm(arm, base_radius(arm), 0.45 * arm.a1)
                 self._arms[arm.id] = (arm, i)
             item.set_selected(arm.id in frame.selection)
+        fm = QFontMetricsF(_name_font())
+        for arm in cell.arms:
+            others = [
+                (float(a.x), float(a.y), fm.horizontalAdvance(a.name))
+                for a in cell.arms
+                if a.id != arm.id
+            ]
+            self.items[arm.id].set_neighbours(others)
+
+    def name_extents(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """Base positions and how far their names reach, in pixels (sideways, above,
+        below), for zoom to fit (the shape of the target labels' extents)."""
+        fm = QFontMetricsF(_name_font())
+        items = list(self.items.values())
+        xy = np.array([(it.x, it.y) for it in items], dtype=float).reshape(-1, 2)
+        side = np.array([fm.horizontalAdvance(it.name) + 24.0 for it in items])
+        half = np.full(len(items), fm.height() / 2 + 2.0)
+        return xy, side, half, half
 
     def handles(self) -> dict[str, tuple[float, float]]:
         """Rotate-handle position of every arm as drawn."""

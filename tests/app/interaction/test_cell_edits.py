@@ -44,7 +44,9 @@ def _loads(cell: Cell) -> Cell:
 
 
 def test_added_arm_gets_a_fresh_id_and_name_and_loads():
-    cell, new = arm_edits.add_arm(_cell(), Arm("x", "", 10.0, 20.0, 0, 300, 200, (-90, 90), (-90, 90)))
+    cell, new = arm_edits.add_arm(
+        _cell(), Arm("x", "", 10.0, 20.0, 0, 300, 200, (-90, 90), (-90, 90))
+    )
     assert new.id not in ("left", "right") and new.name == "Arm 1"
     assert cell.arms[-1] == new and (new.x, new.y) == (10.0, 20.0)
     _loads(cell)
@@ -54,7 +56,12 @@ def test_duplicate_keeps_the_arm_model_and_leaves_its_targets():
     base = replace_extra(EXAM, {"tool_body": {"radius": 20}})
     cell = Cell("c", arms=(base,), targets=(Target("p", "P", 450.0, 180.0, "left"),))
     cell, twin = arm_edits.duplicate_arm(cell, "left", 650.0)
-    assert (twin.a1, twin.a2, twin.q1_limits, twin.extra) == (400.0, 250.0, (0.0, 180.0), base.extra)
+    assert (twin.a1, twin.a2, twin.q1_limits, twin.extra) == (
+        400.0,
+        250.0,
+        (0.0, 180.0),
+        base.extra,
+    )
     assert twin.x == 650.0 and twin.name == "Left copy"
     assert [t.arm for t in cell.targets] == ["left"]
     _loads(cell)
@@ -71,7 +78,10 @@ def test_deleting_an_arm_reassigns_or_deletes_its_targets_and_sequences():
     moved = _loads(arm_edits.delete_arm(cell, "left", "reassign", to="right"))
     assert [a.id for a in moved.arms] == ["right"]
     assert {t.arm for t in moved.targets} == {"right"}
-    assert [(s.arm, s.targets) for s in moved.sequences] == [("right", ("p", "q")), ("right", ("r",))]
+    assert [(s.arm, s.targets) for s in moved.sequences] == [
+        ("right", ("p", "q")),
+        ("right", ("r",)),
+    ]
     gone = _loads(arm_edits.delete_arm(cell, "left", "delete"))
     assert [t.id for t in gone.targets] == ["r"]
     assert [(s.arm, s.targets) for s in gone.sequences] == [("right", ("r",))]
