@@ -321,6 +321,9 @@ class MainWindow(QMainWindow):
         self.act_quit = self._action("&Quit", self.close, K.Quit)
         self.act_undo = self._action("&Undo", self.undo, K.Undo)
         self.act_redo = self._action("&Redo", self.redo, K.Redo)
+        # Every platform binding (Ctrl+Y and Ctrl+Shift+Z both redo), fields included.
+        self.act_undo.setShortcuts(K.Undo)
+        self.act_redo.setShortcuts(K.Redo)
         self.act_delete = self._action("&Delete", self.delete_selection, K.Delete)
         self.act_select_all = self._action("Select &All Targets", self.select_all, K.SelectAll)
         self.act_zoom_fit = self._action("&Zoom to Fit", self.canvas.zoom_to_fit, "Ctrl+0")

@@ -539,3 +539,24 @@ def test_ctrl_a_on_the_canvas_selects_every_target(make, qtbot):
     QApplication.processEvents()
     qtbot.keyClick(win.canvas.plot, Qt.Key.Key_A, Qt.KeyboardModifier.ControlModifier)
     assert win.document.selection.ids == tuple(t.id for t in win.document.cell.targets)
+
+
+def test_heights_per_kind_are_remembered_between_windows(qtbot):
+    # With the user's settings (a temporary store here), a height given to a fixture of a
+    # kind is what new fixtures of that kind get in the next window.
+    win = MainWindow(Document(load_cell(TRAY), TRAY), use_settings=True)
+    win.ask_unsaved_changes = lambda: "discard"
+    qtbot.addWidget(win)
+    win.document.selection.set(["reject_chute"])
+    win.fixture_panel.height.setFocus()
+    win.fixture_panel.height.setText("615")
+    win.fixture_panel.height.setModified(True)
+    win.fixture_panel.height.editingFinished.emit()
+    assert win.document.cell.fixtures[4].height == 615.0
+    other = MainWindow(use_settings=True)
+    other.ask_unsaved_changes = lambda: "discard"
+    qtbot.addWidget(other)
+    assert other.cell_actions.remembered_heights()["fixture"] == 615.0
+    asked = []
+    other.cell_actions.ask_fixture_height = lambda kind, units: asked.append(kind)
+    assert other.cell_actions.new_fixture_height("fixture") == 615.0 and asked == []

@@ -46,8 +46,11 @@ class ArmItem(pg.GraphicsObject):
         self.arrow = 1.0
         self.name = ""
         self.selected = False
-        self.neighbours: list[tuple[float, float, float]] = []  # other bases: x, y, name px
-        self.name_rect: QRectF | None = None  # where the name was painted (device pixels)
+        # The other arms' items, in cell order, and how many of them come before this one:
+        # names are placed in cell order, each clear of the names placed before it.
+        self.others: list[ArmItem] = []
+        self.before = 0
+        self.name_rect: QRectF | None = None  # where the name was painted (view pixels)
         self._bounds: QRectF | None = None
         self._font = QFont()
         self._font.setBold(True)
@@ -60,11 +63,23 @@ class ArmItem(pg.GraphicsObject):
         self.radius, self.arrow, self.name = float(radius), float(arrow), arm.name
         self.update()
 
-    def set_neighbours(self, others: list[tuple[float, float, float]]) -> None:
-        """The other arms' bases (world x, y and their names' pixel widths) to keep clear of."""
-        if others != self.neighbours:
-            self.neighbours = others
+    def set_others(self, others: list[ArmItem], before: int) -> None:
+        """The other arms' items (cell order); the first ``before`` of them come before this
+        one in the cell."""
+        if others != self.others or before != self.before:
+            self.others, self.before = others, before
             self.update()
+
+    def name_inputs(self, to_view) -> tuple[QPointF, float, float, float, float]:
+        """Base centre (view pixels), heading angle (view), name offset, name width, height."""
+        dc = to_view(QPointF(self.x, self.y))
+        hx, hy = self.handle_point()
+        dt = to_view(QPointF(hx, hy))
+        edge = to_view(QPointF(self.x + self.radius, self.y))
+        rad_px = math.hypot(edge.x() - dc.x(), edge.y() - dc.y())
+        fm = QFontMetricsF(self._font)
+        ang = math.atan2(dt.y() - dc.y(), dt.x() - dc.x())
+        return dc, ang, max(rad_px, 6.0) + 6.0, fm.horizontalAdvance(self.name), fm.height()
 
     def set_selected(self, on: bool) -> None:
         if on != self.selected:
@@ -122,8 +137,6 @@ class ArmItem(pg.GraphicsObject):
         # Arrow head, handle, centre cross and name in device pixels.
         tr = painter.transform()
         dc, dt = tr.map(centre), tr.map(tip)
-        edge = tr.map(QPointF(self.x + self.radius, self.y))
-        rad_px = math.hypot(edge.x() - dc.x(), edge.y() - dc.y())
         painter.save()
         painter.resetTransform()
         ang = math.atan2(dt.y() - dc.y(), dt.x() - dc.x())
@@ -140,15 +153,28 @@ class ArmItem(pg.GraphicsObject):
         painter.drawLine(dc + QPointF(-5, 0), dc + QPointF(5, 0))
         painter.drawLine(dc + QPointF(0, -5), dc + QPointF(0, 5))
         painter.setFont(self._font)
-        # Name away from the heading arrow, clear of the footprint, other bases and the edge.
+        # Name away from the heading arrow, clear of the footprint, other bases, the names
+        # placed before it and the edge. Decided in the view's pixels (the item may be
+        # painted into its cache pixmap).
         fm = QFontMetricsF(self._font)
-        w, h = fm.horizontalAdvance(self.name), fm.height()
-        off = max(rad_px, 6.0) + 6.0
-        # Decide in the view's pixels (the item may be painted into its cache pixmap).
         to_view, bounds = self._view_mapping(tr, centre)
-        dv = to_view(centre)
-        others = [(to_view(QPointF(x, y)), nw) for x, y, nw in self.neighbours]
-        vx, vy = _name_spot(dv, ang, off, w, h, others, bounds)
+        dv, _ang, off, w, h = self.name_inputs(to_view)
+        marks = []
+        for other in self.others:
+            oc, _a, ooff, _w, _h = other.name_inputs(to_view)
+            marks.append(QRectF(oc.x() - ooff, oc.y() - ooff, 2 * ooff, 2 * ooff))
+        names: list[QRectF] = []
+        for k, other in enumerate(self.others[: self.before]):
+            oc, oa, ooff, ow, oh = other.name_inputs(to_view)
+            keep = (
+                marks[:k]
+                + marks[k + 1 :]
+                + names
+                + [QRectF(dv.x() - off, dv.y() - off, 2 * off, 2 * off)]
+            )
+            ox, oy = _name_spot(oc, oa, ooff, ow, oh, keep, bounds)
+            names.append(QRectF(ox - ow / 2 - 2, oy - oh / 2 - 1, ow + 4, oh + 2))
+        vx, vy = _name_spot(dv, ang, off, w, h, marks + names, bounds)
         self.name_rect = QRectF(vx - w / 2, vy - h / 2, w, h)
         cx, cy = vx + dc.x() - dv.x(), vy + dc.y() - dv.y()
         p = QPointF(cx - w / 2, cy - h / 2 + fm.ascent())
@@ -160,9 +186,10 @@ class ArmItem(pg.GraphicsObject):
         painter.restore()
 
 
-def _name_spot(dc, ang, off, w, h, others, bounds) -> tuple[float, float]:
+def _name_spot(dc, ang, off, w, h, keep_clear, bounds) -> tuple[float, float]:
     """Centre of the name box: the first of away from the arrow, below, above, towards the
-    arrow that keeps clear of the other bases and their names and inside ``bounds``."""
+    arrow that keeps clear of the boxes ``keep_clear`` (view pixels) and inside ``bounds``;
+    failing all, the one that covers least."""
     best, best_cost = None, math.inf
     for turn in (0.0, math.pi / 2, -math.pi / 2, math.pi):
         a = ang + math.pi + turn
@@ -171,9 +198,7 @@ def _name_spot(dc, ang, off, w, h, others, bounds) -> tuple[float, float]:
         cx, cy = dc.x() + ux * reach, dc.y() + uy * reach
         box = QRectF(cx - w / 2 - 2, cy - h / 2 - 1, w + 4, h + 2)
         cost = 0.0
-        for c, nw in others:
-            # The other base's marks and its name (on either side of it): keep out.
-            theirs = QRectF(c.x() - nw - 30, c.y() - h, 2 * nw + 60, 2 * h)
+        for theirs in keep_clear:
             inter = box.intersected(theirs)
             if not inter.isEmpty():
                 cost += inter.width() * inter.height()
@@ -214,14 +239,9 @@ class BasesLayer:
                 item.set_arm(arm, base_radius(arm), 0.45 * arm.a1)
                 self._arms[arm.id] = (arm, i)
             item.set_selected(arm.id in frame.selection)
-        fm = QFontMetricsF(_name_font())
-        for arm in cell.arms:
-            others = [
-                (float(a.x), float(a.y), fm.horizontalAdvance(a.name))
-                for a in cell.arms
-                if a.id != arm.id
-            ]
-            self.items[arm.id].set_neighbours(others)
+        order = [self.items[a.id] for a in cell.arms]
+        for k, item in enumerate(order):
+            item.set_others(order[:k] + order[k + 1 :], k)
 
     def name_extents(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
         """Base positions and how far their names reach, in pixels (sideways, above,

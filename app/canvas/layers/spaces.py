@@ -339,7 +339,7 @@ class SpacesLayer:
         wanted = set()
         by_id = {f.id: f for f in cell.fixtures}
         boxes = {}
-        for fid, arms in over.items():
+        for fid in over:
             f = by_id[fid]
             key = ("passes_over", fid)
             item = self.shapes.items.get(key)
