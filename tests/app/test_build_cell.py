@@ -13,7 +13,6 @@ from __future__ import annotations
 
 import json
 import math
-from pathlib import Path
 
 import pytest
 from PySide6.QtCore import QPoint, Qt

@@ -6,9 +6,10 @@ from __future__ import annotations
 import os
 import subprocess
 import sys
-import tomllib
 from importlib.metadata import version
 from pathlib import Path
+
+import tomllib
 
 from app.cli import SUBCOMMANDS, main
 
