@@ -309,11 +309,6 @@ class CellCanvas(QWidget):
             self.vb.setRange(xRange=(-500, 500), yRange=(-500, 500), padding=FIT_PADDING)
             return
         xy, side, above, below = self.targets.labels.extents()
-        # The arms' names count like labels: a fit never cuts them at the edge.
-        names = self.bases.name_extents()
-        xy, side, above, below = (
-            np.concatenate([a, b]) for a, b in zip((xy, side, above, below), names)
-        )
         x0, x1, y0, y1 = fit_box(
             box, xy, side, above, below, float(self.vb.width()), float(self.vb.height())
         )

@@ -62,6 +62,11 @@ class FixturePanel(QWidget):
         outer.setContentsMargins(4, 4, 4, 4)
 
         self.choice = QComboBox()
+        # Long names must not widen the dock: the list shows them whole when opened.
+        self.choice.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon
+        )
+        self.choice.setMinimumContentsLength(14)
         self.choice.setObjectName("fixture_choice")
         self.choice.setToolTip("Which fixture the fields below edit (or select one on the canvas)")
         outer.addWidget(self.choice)

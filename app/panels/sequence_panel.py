@@ -63,6 +63,11 @@ class SequencePanel(QWidget):
         outer.setContentsMargins(4, 4, 4, 4)
         top = QGridLayout()
         self.arm_choice = QComboBox()
+        # Long names must not widen the dock: the list shows them whole when opened.
+        self.arm_choice.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon
+        )
+        self.arm_choice.setMinimumContentsLength(14)
         self.arm_choice.setObjectName("sequence_arm")
         self.arm_choice.setToolTip("Whose sequence the list shows")
         self.number_choice = QComboBox()

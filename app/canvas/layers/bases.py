@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import QPointF, QRectF, Qt
 from PySide6.QtGui import QBrush, QColor, QFont, QFontMetricsF, QPen
@@ -21,12 +20,6 @@ from ..qtstyle import colour, cosmetic_pen
 from . import Frame, Host, Z
 
 __all__ = ["ArmItem", "BasesLayer", "base_radius"]
-
-
-def _name_font() -> QFont:
-    font = QFont()
-    font.setBold(True)
-    return font
 
 
 def base_radius(arm: Arm) -> float:
@@ -242,16 +235,6 @@ class BasesLayer:
         order = [self.items[a.id] for a in cell.arms]
         for k, item in enumerate(order):
             item.set_others(order[:k] + order[k + 1 :], k)
-
-    def name_extents(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-        """Base positions and how far their names reach, in pixels (sideways, above,
-        below), for zoom to fit (the shape of the target labels' extents)."""
-        fm = QFontMetricsF(_name_font())
-        items = list(self.items.values())
-        xy = np.array([(it.x, it.y) for it in items], dtype=float).reshape(-1, 2)
-        side = np.array([fm.horizontalAdvance(it.name) + 24.0 for it in items])
-        half = np.full(len(items), fm.height() / 2 + 2.0)
-        return xy, side, half, half
 
     def handles(self) -> dict[str, tuple[float, float]]:
         """Rotate-handle position of every arm as drawn."""
