@@ -191,6 +191,7 @@ class MainWindow(QMainWindow):
         self.arm_dock.raise_()
         self.problems_dock.raise_()
         self.resizeDocks([self.arm_dock, self.problems_dock], [275, 320], Qt.Orientation.Horizontal)
+        self.resizeDocks([self.table_dock], [290], Qt.Orientation.Vertical)
         self.cell_actions = CellActions(self)
 
         self._build_status_bar()

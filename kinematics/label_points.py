@@ -1,4 +1,5 @@
-"""Where a name goes inside an outline: the point deepest inside it.
+"""Where a name goes inside an outline: its centroid when that lies inside, else the point
+deepest inside it.
 
 A label at the centre of an outline's bounding box can fall outside an L-shaped or curved
 fixture; the pole of inaccessibility (the interior point farthest from the edges, Garcia-
@@ -21,7 +22,8 @@ RELATIVE_TOLERANCE = 0.01
 
 
 def label_points(outlines: Iterable[Sequence[tuple[float, float]]]) -> NDArray[np.float64]:
-    """A point inside each outline, far from its edges, as an array (N, 2).
+    """A point inside each outline, as an array (N, 2): the centroid when it is inside, else
+    the pole of inaccessibility.
 
     Examples
     --------
@@ -43,6 +45,12 @@ def label_points(outlines: Iterable[Sequence[tuple[float, float]]]) -> NDArray[n
         poly = shapely.Polygon(xy)
         if not poly.is_valid or poly.area <= 0:
             out.append(xy.mean(axis=0) if len(xy) else np.zeros(2))
+            continue
+        c = poly.centroid
+        if poly.contains(c):
+            # Convex and most everyday outlines: the centroid reads best (a long thin guard
+            # gets its name in the middle, not wherever the search stopped along it).
+            out.append(np.array([c.x, c.y]))
             continue
         span = float(np.ptp(xy, axis=0).max())
         p = polylabel(poly, tolerance=max(span * RELATIVE_TOLERANCE, 1e-9))

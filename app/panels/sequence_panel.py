@@ -163,10 +163,16 @@ class SequencePanel(QWidget):
             if self._arm_id is not None:
                 self.arm_choice.setCurrentIndex(ids.index(self._arm_id))
 
-    def _show(self) -> None:
+    def _show(self, force: bool = False) -> None:
         cell = self.document.cell
         have = seq.arm_sequences(cell, self._arm_id) if self._arm_id else []
         self._number = min(self._number, max(len(have) - 1, 0))
+        ids = self.targets()
+        names = {t.id: t.name for t in cell.targets if t.id in set(ids)}
+        key = (self._arm_id, self._number, tuple(cell.sequences[i].targets for i in have), names)
+        if not force and key == getattr(self, "_shown_key", None):
+            return  # a drag step elsewhere (a base, a fixture): nothing here changed
+        self._shown_key = key
         with blocked(self.number_choice):
             self.number_choice.clear()
             for k, i in enumerate(have):
@@ -174,8 +180,6 @@ class SequencePanel(QWidget):
                 self.number_choice.addItem(f"Sequence {k + 1} ({n} visits)", k)
             self.number_choice.setCurrentIndex(self._number if have else -1)
         self.number_choice.setVisible(len(have) > 1)
-        names = {t.id: t.name for t in cell.targets}
-        ids = self.targets()
         chosen = set(self.document.selection.ids)
         with self._guard, blocked(self.list):
             self.list.clear()
@@ -230,7 +234,7 @@ class SequencePanel(QWidget):
         if arm_id is not None and arm_id != self._arm_id:
             self._arm_id = arm_id
             self._number = 0
-            self._show()
+            self._show(force=True)
 
     def _on_number_chosen(self, index: int) -> None:
         if index >= 0 and index != self._number:
@@ -255,7 +259,7 @@ class SequencePanel(QWidget):
             cell = check_cell(cell)
         except Invalid as exc:
             self.message.emit(f"✕ {exc}")
-            self._show()
+            self._show(force=True)
             return False
         self.document.edit(label, cell)
         return True
@@ -331,7 +335,7 @@ class SequencePanel(QWidget):
             return
         cell = seq.set_sequence(self.document.cell, self._arm_id, ids, self._number)
         if not self._edit(f"Reorder the sequence of {self._arm_name()}", cell):
-            self._show()
+            self._show(force=True)
 
     def set_order(self, ids: list[str]) -> None:
         """Reorder the visits as a drop would (for tests and keyboard use)."""

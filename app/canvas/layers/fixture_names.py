@@ -2,7 +2,8 @@
 outline (:func:`kinematics.label_points.label_points`), in screen pixels on a paper halo.
 
 A name wider than its fixture on screen is drawn smaller, then left out while the
-fixture is too small to hold it at all (its name is in the fixture panel and tooltip).
+fixture is too small to hold it at all, or where it would cover a smaller fixture's name
+(the name is always in the fixture panel).
 """
 
 from __future__ import annotations
@@ -49,8 +50,10 @@ class _NamesItem(pg.GraphicsObject):
         painter.setRenderHint(QPainter.RenderHint.TextAntialiasing, True)
         halo = QColor(style.PAPER)
         halo.setAlphaF(0.8)
-        drawn = []
-        for name, x, y, x0, y0, x1, y1 in self.rows:
+        drawn, boxes = [], []
+        # Small fixtures first: a large one's name gives way where they would overlap.
+        order = sorted(self.rows, key=lambda r: (r[5] - r[3]) * (r[6] - r[4]))
+        for name, x, y, x0, y0, x1, y1 in order:
             a, b = tr.map(QPointF(x0, y0)), tr.map(QPointF(x1, y1))
             room = abs(b.x() - a.x()) - 4.0
             font = QFont(self._font)
@@ -65,6 +68,9 @@ class _NamesItem(pg.GraphicsObject):
                 w = fm.horizontalAdvance(name)
             c = tr.map(QPointF(x, y))
             box = QRectF(c.x() - w / 2 - 2, c.y() - fm.height() / 2, w + 4, fm.height())
+            if any(box.intersects(b) for b in boxes):
+                continue
+            boxes.append(box)
             painter.fillRect(box, halo)
             painter.setFont(font)
             painter.setPen(QColor(style.INK))
