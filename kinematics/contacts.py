@@ -160,9 +160,14 @@ def collisions(
     # in the configuration that comes closest; where that pose collides, show it too.
     other = ~np.asarray(ev.feasible, dtype=bool) & np.asarray(ev.ik.reachable, dtype=bool)
     other &= np.asarray(ev.status) != int(Status.COLLISION)
-    for i in np.flatnonzero(other).tolist():
-        k = ev.closest(i)
-        ok[i, k] |= bool(ev.collides[i, k])
+    if other.any():
+        # ArmEvaluation.closest for these targets, vectorised (every pointer move of a drag):
+        # the allowed configuration with the larger limit margin, the positive one on a tie.
+        m = np.where(np.asarray(ev.ik.allowed, dtype=bool), ev.ik.limit_margin_deg, -np.inf)
+        m = np.nan_to_num(m, nan=-np.inf)
+        k = np.where(m[:, 0] >= m[:, 1], 0, 1)
+        rows = np.flatnonzero(other)
+        ok[rows, k[rows]] |= np.asarray(ev.collides, dtype=bool)[rows, k[rows]]
     if show is not None:
         ok &= np.asarray(show, dtype=bool)[:, None]
     ok[:, 1] &= ~np.asarray(ev.ik.singular, dtype=bool)  # one pose at a singular target

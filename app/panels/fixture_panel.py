@@ -232,6 +232,8 @@ class FixturePanel(QWidget):
                 self.vertices.selectRow(keep)
 
     def _on_cell_changed(self, changes: Changes) -> None:
+        if not (changes.fixtures or changes.structure or changes.other):
+            return  # a base or a target moved: nothing shown here changed
         names = [self.choice.itemText(i) for i in range(self.choice.count())]
         wanted = [f"{f.name} ({f.id})" for f in self.document.cell.fixtures]
         if changes.structure or names != wanted or self.fixture is None:

@@ -204,6 +204,10 @@ class SequencePanel(QWidget):
             b.setEnabled(bool(ids))
 
     def _on_cell_changed(self, changes: Changes) -> None:
+        if not (changes.structure or changes.other or changes.arms or changes.targets):
+            return  # a fixture moved: nothing shown here changed
+        if self.document.unsettled and not (changes.structure or changes.other):
+            return  # a drag steps: names and order cannot change until it ends
         wanted = [f"{a.name} ({a.id})" for a in self.document.cell.arms]
         names = [self.arm_choice.itemText(i) for i in range(self.arm_choice.count())]
         if names != wanted or changes.structure:
