@@ -81,9 +81,9 @@ def append_targets(
 ) -> tuple[Cell, list[str], list[str]]:
     """Add targets at the end of a sequence, in the order given (the click order).
 
-    Returns the cell, the ids added and the ids left out (another arm's targets, unknown
-    ids, and targets already in the sequence: a second visit is made by hand, with the
-    list's order, so a click never doubles one by accident).
+    A target may be visited again (back to the same feeder for the next part); left out
+    are another arm's targets, unknown ids and a visit that would repeat the one just
+    before it (no move between them). Returns the cell, the ids added and those left out.
 
     Examples
     --------
@@ -93,12 +93,16 @@ def append_targets(
     >>> c, added, skipped = append_targets(c, "a", ["q", "r", "p"])
     >>> sequence_targets(c, "a"), skipped
     (('q', 'p'), ['r'])
+    >>> c, added, skipped = append_targets(c, "a", ["p", "q"])  # p again right after p
+    >>> sequence_targets(c, "a"), skipped
+    (('q', 'p', 'q'), ['p'])
     """
     own = {t.id for t in cell.targets if t.arm == arm_id}
     have = list(sequence_targets(cell, arm_id, number))
     added, skipped = [], []
     for tid in ids:
-        if tid in own and tid not in have and tid not in added:
+        last = (have + added)[-1] if have or added else None
+        if tid in own and tid != last:
             added.append(tid)
         else:
             skipped.append(tid)

@@ -96,7 +96,7 @@ class SequencePanel(QWidget):
         self.add_button = QPushButton("Add Selected")
         self.add_button.setToolTip(
             "Add the targets selected on the canvas or in the table, in the order they were "
-            "selected (Ctrl+click them one by one), at the end"
+            "selected (Ctrl+click them one by one), at the end; a target may be visited again"
         )
         self.remove_button = QPushButton("Remove")
         self.remove_button.setToolTip("Remove the chosen visits from the sequence")
@@ -285,7 +285,7 @@ class SequencePanel(QWidget):
         if others:
             notes.append(f"{len(others)} of another arm left out")
         if there:
-            notes.append(f"{len(there)} already in the sequence")
+            notes.append(f"{len(there)} repeating the visit just before")
         if not added:
             why = "; ".join(notes) if notes else "select targets on the canvas first"
             self.message.emit(f"Nothing added to {self._arm_name()}'s sequence: {why}")

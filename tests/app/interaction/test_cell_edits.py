@@ -104,8 +104,10 @@ def test_the_last_arm_goes_with_its_targets_and_bad_choices_are_refused():
 
 
 def test_targets_are_added_in_click_order_and_other_arms_targets_left_out():
+    # A second visit is allowed (the same feeder again); r is the right arm's.
     cell, added, skipped = seq.append_targets(_cell(), "left", ["q", "r", "p"])
-    assert added == [] and skipped == ["q", "r", "p"]  # both already in, r is the right arm's
+    assert added == ["p"] and skipped == ["q", "r"]  # q would repeat the last visit (q)
+    assert seq.sequence_targets(cell, "left") == ("p", "q", "p")
     cell = seq.set_sequence(_cell(), "left", [])
     assert [s.arm for s in cell.sequences] == ["right"]  # an emptied sequence goes
     cell, added, skipped = seq.append_targets(cell, "left", ["q", "r", "p"])
