@@ -3,6 +3,12 @@
 A widget shows the model; when the model changes, the widget is updated with its
 signals blocked so the update is not mistaken for the user typing. Typed text is
 validated on every keystroke and committed only on Enter or focus-out.
+
+Refused text never outlives the field's focus: Enter keeps it (with the reason) so it
+can be fixed, leaving the field puts the model's value back and says what was refused.
+Undo and redo in a field are the document's: typing not yet committed is thrown away by
+Ctrl+Z, and with nothing typed Ctrl+Z / Ctrl+Shift+Z reach the window's undo stack, so
+the field's own edit history never becomes an undo step.
 """
 
 from __future__ import annotations
@@ -10,7 +16,8 @@ from __future__ import annotations
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 
-from PySide6.QtCore import QEvent, QObject, Qt
+from PySide6.QtCore import QEvent, QObject, Qt, Signal
+from PySide6.QtGui import QKeySequence
 from PySide6.QtWidgets import QLabel, QLineEdit
 
 from app.panels.validate import Invalid
@@ -55,20 +62,46 @@ class EchoGuard:
         return self._depth > 0
 
 
-class _EscapeFilter(QObject):
-    def __init__(self, on_escape: Callable[[], None], parent: QObject) -> None:
-        super().__init__(parent)
-        self._on_escape = on_escape
+# Focus that leaves for a menu or another window comes back: the typing waits for it.
+_STAYING = (Qt.FocusReason.PopupFocusReason, Qt.FocusReason.ActiveWindowFocusReason)
+_HISTORY_KEYS = (QKeySequence.StandardKey.Undo, QKeySequence.StandardKey.Redo)
+
+
+class _FieldFilter(QObject):
+    """Esc reverts; Ctrl+Z / Ctrl+Shift+Z are the document's; focus-out with refused text."""
+
+    def __init__(self, binding: FieldBinding) -> None:
+        super().__init__(binding)
+        self._b = binding
 
     def eventFilter(self, obj: QObject, event: QEvent) -> bool:
-        if event.type() == QEvent.Type.KeyPress and event.key() == Qt.Key.Key_Escape:
-            self._on_escape()
+        t = event.type()
+        b = self._b
+        if t == QEvent.Type.ShortcutOverride and any(event.matches(k) for k in _HISTORY_KEYS):
+            if b.typing:
+                event.accept()  # the key press comes here: it throws the typing away
+            else:
+                event.ignore()  # not the line edit's: the window's undo / redo shortcut
             return True
+        if t == QEvent.Type.KeyPress:
+            if event.key() == Qt.Key.Key_Escape:
+                b.revert()
+                return True
+            if any(event.matches(k) for k in _HISTORY_KEYS):
+                b.revert()  # the typing was never a step: nothing else to undo here
+                return True
+        if t == QEvent.Type.FocusOut and event.reason() not in _STAYING:
+            b.leave()
         return False
 
 
 class FieldBinding(QObject):
     """Ties a QLineEdit and a reason label to one model value.
+
+    Signals
+    -------
+    refused(str)
+        The field was left with text it refused; the text says what and what stays.
 
     Parameters
     ----------
@@ -83,14 +116,18 @@ class FieldBinding(QObject):
         valid text the user changed.
     """
 
+    refused = Signal(str)
+
     def __init__(
         self,
         edit: QLineEdit,
         reason: QLabel,
         check: Callable[[str], object],
         commit: Callable[[str], None],
+        label: str = "",
     ) -> None:
         super().__init__(edit)
+        self.label = label or edit.accessibleName() or "the field"
         self.edit = edit
         self.reason = reason
         self._check = check
@@ -101,7 +138,7 @@ class FieldBinding(QObject):
         reason.setVisible(False)
         edit.textEdited.connect(self._on_typed)
         edit.editingFinished.connect(self._on_finished)
-        edit.installEventFilter(_EscapeFilter(self.revert, self))
+        edit.installEventFilter(_FieldFilter(self))
 
     @property
     def error(self) -> str:
@@ -118,6 +155,25 @@ class FieldBinding(QObject):
     def revert(self) -> None:
         """Throw away what was typed and show the model's value again."""
         self._set_text(self._model_text)
+
+    @property
+    def typing(self) -> bool:
+        """True while the field holds typed text not yet committed."""
+        return self.edit.isModified() and self.edit.text() != self._model_text
+
+    def leave(self) -> None:
+        """The field loses focus: refused text gives way to the model's value, and the
+        reason stays beside the field saying what was refused."""
+        if not self.typing or self.validate():
+            return  # valid typing is committed by editingFinished, which follows
+        typed, why = self.edit.text(), self.error
+        self.revert()
+        kept = self._model_text or "empty"
+        note = f"{self.label}: {typed!r} was not taken ({why}); it stays {kept}"
+        self.reason.setText(f"{INVALID_MARK} {note}")
+        self.reason.setVisible(True)
+        self.edit.setToolTip(note)
+        self.refused.emit(note)
 
     def _set_text(self, text: str) -> None:
         with blocked(self.edit):

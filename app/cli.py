@@ -10,12 +10,16 @@ error log, see :mod:`app.errorlog`).
 
 Subcommands are listed in :data:`SUBCOMMANDS`: name -> function taking the remaining
 arguments and returning the exit status. A subcommand module registers itself there
-with one line, so adding one touches nothing else here.
+with one line, so adding one touches nothing else here. ``elbowroom help [COMMAND]``
+prints the help; a first word that is neither a command nor a file name is refused as an
+unknown command, naming the commands (exit 2). Messages about a file name it as the user
+gave it on the command line.
 """
 
 from __future__ import annotations
 
 import argparse
+import difflib
 import importlib
 import json
 import os
@@ -32,6 +36,7 @@ __all__ = [
     "EXIT_INFEASIBLE",
     "EXIT_UNUSABLE",
     "EXIT_INTERNAL",
+    "version",
 ]
 
 EXIT_OK, EXIT_INFEASIBLE, EXIT_UNUSABLE = 0, 1, 2
@@ -45,6 +50,17 @@ class _Parser(argparse.ArgumentParser):
     def error(self, message: str) -> None:  # type: ignore[override]
         sys.stderr.write(f"{self.prog}: {message} (see '{self.prog} --help')\n")
         raise SystemExit(EXIT_UNUSABLE)
+
+
+def version() -> str:
+    """The installed version of Elbow Room ("0.1.0"); "unknown" when not installed."""
+    from importlib.metadata import PackageNotFoundError
+    from importlib.metadata import version as dist_version
+
+    try:
+        return dist_version("elbowroom")
+    except PackageNotFoundError:
+        return "unknown"
 
 
 def _parse_size(text: str) -> tuple[int, int]:
@@ -69,8 +85,9 @@ def _window_parser() -> argparse.ArgumentParser:
         prog="elbowroom",
         description="Open the Elbow Room window. Subcommands: 'check CELL [--json]', "
         "'export CELL ...', 'import-dxf CELL DXF ...', 'place CELL ...', "
-        "'compare CELL [--json]' (each with --help).",
+        "'compare CELL [--json]' (each with --help; 'elbowroom help COMMAND' too).",
     )
+    p.add_argument("--version", action="version", version=f"elbowroom {version()}")
     p.add_argument("cell", type=Path, nargs="?", help="a *.cell.json file (default: bundled cell)")
     p.add_argument("--screenshot", type=Path, metavar="FILE.png", help="save the window and exit")
     p.add_argument("--size", type=_parse_size, metavar="WxH", help="window size for --screenshot")
@@ -81,7 +98,7 @@ def _load(path: Path):
     from kinematics.cellfile import CellFileError, load_cell
 
     try:
-        return load_cell(path)
+        return load_cell(path, source=str(path))  # named as the user gave it
     except CellFileError as err:
         # Every problem on its own line, so one run shows all that needs fixing.
         sys.stderr.write("".join(f"{line}\n" for line in err.problems))
@@ -180,11 +197,45 @@ SUBCOMMANDS: dict[str, Callable[[list[str]], int]] = {
 
 
 def _file_argument(args: list[str]) -> str | None:
-    """The file a command line names (its first argument that is not an option)."""
+    """The file a command line names (its first argument that is not an option), as given."""
     for a in args:
         if not a.startswith("-"):
-            return Path(a).name or a
+            return a
     return None
+
+
+def _commands() -> list[str]:
+    return [*SUBCOMMANDS, "help"]
+
+
+def _help(args: list[str]) -> int:
+    """``elbowroom help [COMMAND]``: the help of the window or of one command."""
+    if args and args[0] in SUBCOMMANDS:
+        return SUBCOMMANDS[args[0]](["--help"])
+    if args and args[0] != "help":
+        return _unknown(args[0])
+    p = _window_parser()
+    p.print_help()
+    sys.stdout.write(
+        "\ncommands: " + ", ".join(_commands()) + " ('elbowroom help COMMAND' for one)\n"
+    )
+    return EXIT_OK
+
+
+def _looks_like_file(word: str) -> bool:
+    return word.endswith(".json") or os.sep in word or "/" in word or os.path.exists(word)
+
+
+def _unknown(word: str) -> int:
+    """A first word that is no command and no file: say so, with the commands, and the help."""
+    close = difflib.get_close_matches(word, _commands(), n=1)
+    hint = f"; did you mean '{close[0]}'?" if close else ""
+    sys.stderr.write(
+        f"elbowroom: unknown command '{word}' (commands: {', '.join(_commands())}){hint}\n"
+        "To open a cell in the window, give its file name (CELL.cell.json).\n\n"
+    )
+    _window_parser().print_help(sys.stderr)
+    return EXIT_UNUSABLE
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -215,6 +266,10 @@ def _main(args: list[str]) -> int:
     try:
         if args and args[0] in SUBCOMMANDS:
             return SUBCOMMANDS[args[0]](args[1:])
+        if args and args[0] == "help":
+            return _help(args[1:])
+        if args and not args[0].startswith("-") and not _looks_like_file(args[0]):
+            return _unknown(args[0])
         ns = _window_parser().parse_args(args)
     except SystemExit as exc:  # argparse: --help exits 0, errors exit 2
         return int(exc.code or 0)
@@ -223,8 +278,10 @@ def _main(args: list[str]) -> int:
 
     path = ns.cell if ns.cell is not None else default_cell_path()
     if ns.screenshot is None and not has_display():
+        shown = path.name if ns.cell is None else str(ns.cell)
         notice = (
-            f"No display available: printing the check report of {path.name} instead of a window."
+            f"No display available: printing the check report of {shown} instead of a window "
+            "(--screenshot FILE.png saves a picture of it)."
         )
         if not _write_out(notice + "\n"):
             return EXIT_UNUSABLE

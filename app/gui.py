@@ -21,12 +21,44 @@ from pathlib import Path
 from app.resources import default_cell_path
 from kinematics.cellfile import CellFileError, load_cell
 
-__all__ = ["run", "DEFAULT_SCREENSHOT_SIZE", "SETTLE_ROUNDS"]
+__all__ = [
+    "run",
+    "DEFAULT_SCREENSHOT_SIZE",
+    "SETTLE_ROUNDS",
+    "QUIET_QT_MESSAGES",
+    "install_message_filter",
+]
 
 #: Window size for screenshots, in pixels.
 DEFAULT_SCREENSHOT_SIZE = (1600, 1000)
 #: Event rounds a screenshot runs after the last one that found work, before the picture.
 SETTLE_ROUNDS = 3
+#: Qt messages that say nothing to the user (the offscreen platform lacks a window-manager
+#: feature it was never asked for): kept off the terminal.
+QUIET_QT_MESSAGES = ("propagateSizeHints",)
+
+_previous_handler: list = []
+
+
+def install_message_filter() -> None:
+    """Keep :data:`QUIET_QT_MESSAGES` off the terminal; every other Qt message goes on to
+    the handler installed before (Qt's own, which writes to stderr, when there was none)."""
+    from PySide6.QtCore import qInstallMessageHandler
+
+    if _previous_handler:
+        return
+
+    def handler(kind, context, message: str) -> None:
+        if any(q in message for q in QUIET_QT_MESSAGES):
+            return
+        before = _previous_handler[0]
+        if before is not None:
+            before(kind, context, message)
+        elif sys.stderr is not None:
+            sys.stderr.write(message + "\n")
+
+    _previous_handler.append(None)
+    _previous_handler[0] = qInstallMessageHandler(handler)
 
 
 def _has_display() -> bool:
@@ -60,7 +92,7 @@ def run(
     """
     path = Path(cell_path) if cell_path is not None else default_cell_path()
     try:
-        cell = load_cell(path)
+        cell = load_cell(path, source=str(cell_path) if cell_path is not None else None)
     except CellFileError as exc:
         # Every problem on its own line (as `elbowroom check` does), so one run shows them all.
         sys.stderr.write("".join(f"{line}\n" for line in exc.problems))
@@ -82,6 +114,7 @@ def run(
     from app.main_window import MainWindow
     from app.settings import APPLICATION, ORGANISATION
 
+    install_message_filter()
     app = QApplication.instance() or QApplication(sys.argv[:1])
     app.setOrganizationName(ORGANISATION)
     app.setApplicationName(APPLICATION)

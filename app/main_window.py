@@ -18,7 +18,6 @@ running copies (:mod:`app.filelock`) and watched for outside changes
 from __future__ import annotations
 
 import os
-from dataclasses import replace
 from pathlib import Path
 
 from PySide6.QtCore import QByteArray, Qt, QTimer
@@ -40,6 +39,7 @@ from PySide6.QtWidgets import (
 from app import recovery
 from app import settings as app_settings
 from app.canvas import CellCanvas
+from app.cell_actions import CellActions
 from app.commands import attach_undo_stack
 from app.document import Changes, Document
 from app.errorlog import log_internal_error
@@ -48,7 +48,9 @@ from app.filelock import DocumentLock, LockHolder
 from app.filewatch import FileWatch
 from app.layout_actions import LayoutActions
 from app.panels.arm_panel import ArmPanel
+from app.panels.fixture_panel import FixturePanel
 from app.panels.problems import ProblemsList
+from app.panels.sequence_panel import SequencePanel
 from app.panels.target_table import TargetTable
 from app.panels.text import cursor_text, hover_text, summary_text
 from app.panels.timeline import TimelinePanel
@@ -193,6 +195,22 @@ class MainWindow(QMainWindow):
         self.setCorner(Qt.Corner.BottomRightCorner, Qt.DockWidgetArea.BottomDockWidgetArea)
         self.resizeDocks([self.arm_dock, self.problems_dock], [275, 320], Qt.Orientation.Horizontal)
         self.resizeDocks([self.table_dock], [290], Qt.Orientation.Vertical)
+        # Fixtures beside the arm and sequences beside the problems, as tabs.
+        self.fixture_panel = FixturePanel(self.document)
+        self.sequence_panel = SequencePanel(self.document)
+        self.fixture_dock = self._dock(
+            "Fixture", "fixture_dock", self.fixture_panel, Qt.DockWidgetArea.LeftDockWidgetArea
+        )
+        self.sequence_dock = self._dock(
+            "Sequence", "sequence_dock", self.sequence_panel, Qt.DockWidgetArea.RightDockWidgetArea
+        )
+        self.tabifyDockWidget(self.arm_dock, self.fixture_dock)
+        self.tabifyDockWidget(self.problems_dock, self.sequence_dock)
+        self.arm_dock.raise_()
+        self.problems_dock.raise_()
+        self.resizeDocks([self.arm_dock, self.problems_dock], [275, 320], Qt.Orientation.Horizontal)
+        self.resizeDocks([self.table_dock], [290], Qt.Orientation.Vertical)
+        self.cell_actions = CellActions(self)
 
         self._build_status_bar()
         self._build_actions()
@@ -216,6 +234,7 @@ class MainWindow(QMainWindow):
         self.canvas.cursor_moved.connect(self._on_cursor)
         self.canvas.hovered_target.connect(self._on_hover)
         self.canvas.status_message.connect(lambda msg: self.statusBar().showMessage(msg, 5000))
+        self._wire_editors()
 
         self.read_only = False
         self.file_lock: DocumentLock | None = None
@@ -246,6 +265,31 @@ class MainWindow(QMainWindow):
         self._show_summary()
 
     # ------------------------------------------------------------------ layout
+
+    def _wire_editors(self) -> None:
+        """The cell editors' questions, messages and remembered fixture heights."""
+        say = self.statusBar().showMessage
+        acts = self.cell_actions
+        self.arm_panel.set_arm_actions(acts.arm_actions)
+        self.arm_panel.refused.connect(lambda msg: say(f"✕ {msg}", 10000))
+        self.fixture_panel.refused.connect(lambda msg: say(msg, 10000))
+        self.fixture_panel.height_set.connect(acts.remember_height)
+        self.sequence_panel.message.connect(lambda msg: say(msg, 8000))
+        self.target_table.source.ask_sequence_place = lambda ids, arm: acts.ask_sequence_place(
+            ids, arm
+        )
+        self.canvas.new_fixture_height = lambda kind: acts.new_fixture_height(kind)
+        self.document.selection.changed.connect(self._raise_editor)
+
+    def _raise_editor(self, ids: tuple[str, ...]) -> None:
+        # One fixture or arm picked on the canvas: show its editor's tab.
+        if len(ids) != 1:
+            return
+        cell = self.document.cell
+        if any(f.id == ids[0] for f in cell.fixtures):
+            self.fixture_dock.raise_()
+        elif any(a.id == ids[0] for a in cell.arms):
+            self.arm_dock.raise_()
 
     def _dock(self, title: str, name: str, widget: QWidget, area: Qt.DockWidgetArea) -> QDockWidget:
         dock = QDockWidget(title, self)
@@ -297,6 +341,9 @@ class MainWindow(QMainWindow):
         self.act_quit = self._action("&Quit", self.close, K.Quit)
         self.act_undo = self._action("&Undo", self.undo, K.Undo)
         self.act_redo = self._action("&Redo", self.redo, K.Redo)
+        # Every platform binding (Ctrl+Y and Ctrl+Shift+Z both redo), fields included.
+        self.act_undo.setShortcuts(K.Undo)
+        self.act_redo.setShortcuts(K.Redo)
         self.act_delete = self._action("&Delete", self.delete_selection, K.Delete)
         self.act_select_all = self._action("Select &All Targets", self.select_all, K.SelectAll)
         self.act_zoom_fit = self._action("&Zoom to Fit", self.canvas.zoom_to_fit, "Ctrl+0")
@@ -335,6 +382,7 @@ class MainWindow(QMainWindow):
         edit_menu.addSeparator()
         edit_menu.addAction(self.exchange.act_title_block)
 
+        self.cell_actions.add_to(bar)
         view_menu = bar.addMenu("&View")
         self.view_menu = view_menu
         view_menu.addAction(self.act_zoom_fit)
@@ -348,7 +396,14 @@ class MainWindow(QMainWindow):
             submenus[title].addAction(act)
         submenus[_ACTION_GROUPS["snap"]].addAction(self.act_pitch)
         view_menu.addSeparator()
-        for dock in (self.arm_dock, self.table_dock, self.problems_dock, self.timeline_dock):
+        for dock in (
+            self.arm_dock,
+            self.fixture_dock,
+            self.table_dock,
+            self.problems_dock,
+            self.sequence_dock,
+            self.timeline_dock,
+        ):
             view_menu.addAction(dock.toggleViewAction())
 
         # Placement and layout variants (their own module): a Layout menu, a dock, progress.
@@ -1077,38 +1132,9 @@ class MainWindow(QMainWindow):
         self.document.selection.set([t.id for t in self.document.cell.targets])
 
     def delete_selection(self) -> None:
-        """Delete the selected targets and fixtures (and arms, while one arm remains)."""
-        cell = self.document.cell
-        chosen = set(self.document.selection.ids)
-        arms = [a for a in cell.arms if a.id in chosen]
-        if len(arms) >= len(cell.arms):
-            arms = []  # a cell keeps at least one arm
-        gone_arms = {a.id for a in arms}
-        targets = [t for t in cell.targets if t.id in chosen or t.arm in gone_arms]
-        fixtures = [f for f in cell.fixtures if f.id in chosen]
-        gone_targets = {t.id for t in targets}
-        gone_fixtures = {f.id for f in fixtures}
-        if not (gone_arms or gone_targets or gone_fixtures):
-            return
-        sequences = tuple(
-            replace(s, targets=tuple(t for t in s.targets if t not in gone_targets))
-            for s in cell.sequences
-            if s.arm not in gone_arms
-        )
-        after = replace(
-            cell,
-            arms=tuple(a for a in cell.arms if a.id not in gone_arms),
-            targets=tuple(t for t in cell.targets if t.id not in gone_targets),
-            fixtures=tuple(f for f in cell.fixtures if f.id not in gone_fixtures),
-            sequences=sequences,
-        )
-        items = [*arms, *targets, *fixtures]
-        if len(items) == 1:
-            label = f"Delete {items[0].id} {items[0].name}".rstrip()
-        else:
-            label = f"Delete {len(items)} items"
-        self.document.selection.clear()
-        self.document.edit(label, after)
+        """Delete the selected targets and fixtures; a selected arm after asking what
+        becomes of its targets (a cell keeps at least one arm)."""
+        self.cell_actions.delete_selection()
 
     # ------------------------------------------------------------------ settings and closing
 

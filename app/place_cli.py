@@ -75,7 +75,7 @@ def _load(path: Path, prog: str):
     from kinematics.cellfile import CellFileError, load_cell
 
     try:
-        return load_cell(path)
+        return load_cell(path, source=str(path))  # named as the user gave it
     except CellFileError as err:
         sys.stderr.write("".join(f"{line}\n" for line in err.problems))
         return None

@@ -36,6 +36,8 @@ __all__ = [
     "set_autosave_minutes",
     "load_dxf_choices",
     "save_dxf_choices",
+    "load_kind_heights",
+    "save_kind_height",
 ]
 
 ORGANISATION = "ElbowRoom"
@@ -237,4 +239,43 @@ def save_dxf_choices(path: Path, choices: dict, settings: QSettings | None = Non
 
     s = settings or open_settings()
     s.setValue(f"{_DXF_GROUP}/{_dxf_key(path)}", json.dumps(choices, sort_keys=True))
+    s.sync()
+
+
+_HEIGHT_GROUP = "fixture_heights"
+
+
+def _kind_key(kind: str) -> str:
+    # A kind is free text; "/" and "\\" would open sub-groups in QSettings.
+    return kind.replace("%", "%25").replace("/", "%2F").replace("\\", "%5C")
+
+
+def _kind_of(key: str) -> str:
+    return key.replace("%5C", "\\").replace("%2F", "/").replace("%25", "%")
+
+
+def load_kind_heights(settings: QSettings | None = None) -> dict[str, float]:
+    """The height last given to a fixture of each kind (new fixtures inherit it)."""
+    s = settings or open_settings()
+    s.beginGroup(_HEIGHT_GROUP)
+    try:
+        out = {}
+        for kind in s.childKeys():
+            try:
+                value = float(s.value(kind))
+            except (TypeError, ValueError):
+                continue
+            if math.isfinite(value) and value >= 0:
+                out[_kind_of(kind)] = value
+        return out
+    finally:
+        s.endGroup()
+
+
+def save_kind_height(kind: str, height: float, settings: QSettings | None = None) -> None:
+    """Remember ``height`` for new fixtures of ``kind``."""
+    s = settings or open_settings()
+    s.beginGroup(_HEIGHT_GROUP)
+    s.setValue(_kind_key(kind), float(height))
+    s.endGroup()
     s.sync()

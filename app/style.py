@@ -72,7 +72,7 @@ class StatusStyle:
 #: triangles up/down for the q1/q2 limit, square elbow excluded, star collision, pentagon
 #: base overlapping a fixture.
 STATUS_STYLES: dict[Status, StatusStyle] = {
-    Status.OK: StatusStyle(PALETTE["pine"], "●", "o", "ok"),
+    Status.OK: StatusStyle(PALETTE["pine"], "●", "o", "feasible"),
     Status.BEYOND_REACH: StatusStyle(PALETTE["ember"], "✕", "x", "out of reach"),
     Status.INSIDE_HOLE: StatusStyle(PALETTE["plum"], "◆", "d", "inner hole"),
     Status.Q1_LIMIT: StatusStyle(PALETTE["amber"], "▲", "t1", "q1 limit"),
@@ -89,12 +89,15 @@ def status_style(status: int | Status) -> StatusStyle:
 
 
 def status_text(status: int | Status, detail: str = "") -> str:
-    """Table text for a status: "● ok" or "✕ FAIL: beyond outer reach" plus optional detail."""
+    """Table text for a status: "● feasible" or "✕ fails: beyond outer reach" plus optional
+    detail (the one verdict word of :mod:`kinematics.wording`)."""
+    from kinematics.wording import FAILS, FEASIBLE
+
     s = Status(int(status))
     glyph = STATUS_STYLES[s].glyph
     if s is Status.OK:
-        return f"{glyph} ok"
-    text = f"{glyph} FAIL: {REASONS[s]}"
+        return f"{glyph} {FEASIBLE}"
+    text = f"{glyph} {FAILS}: {REASONS[s]}"
     return f"{text} {detail}" if detail else text
 
 

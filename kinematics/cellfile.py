@@ -499,7 +499,10 @@ def _read_arm(value: Any, path: JsonPath, r: _Report) -> Arm | None:
         if (v := _optional(obj, key)) is not _MISSING:
             optional[key] = _numbers(v, path + (key,), r, 2, "positive")
     if (v := _optional(obj, "link_underside_height")) is not _MISSING:
-        optional["link_underside_height"] = _number(v, path + ("link_underside_height",), r)
+        # A height above the floor: 0 (links at floor level) or more.
+        optional["link_underside_height"] = _number(
+            v, path + ("link_underside_height",), r, "nonnegative"
+        )
     # Motion key kept in extra (read by kinematics.motion).
     if (v := _optional(obj, "joint_jerk_dps3")) is not _MISSING:
         _numbers(v, path + ("joint_jerk_dps3",), r, 2, "positive")
@@ -847,13 +850,16 @@ def _source_name(path: str | os.PathLike[str]) -> str:
     return _printable(p.name or str(p))
 
 
-def load_cell(path: str | os.PathLike[str]) -> Cell:
+def load_cell(path: str | os.PathLike[str], source: str | None = None) -> Cell:
     """Read and check a ``*.cell.json`` file.
 
     Parameters
     ----------
     path : str or path-like
         The file to read.
+    source : str, optional
+        How messages name the file (the command line passes the path as the user gave
+        it); default the file's name.
 
     Returns
     -------
@@ -867,7 +873,7 @@ def load_cell(path: str | os.PathLike[str]) -> Cell:
         For any problem with the file: missing, unreadable, too large, not UTF-8,
         not JSON, or not a valid cell. ``err.problems`` lists all problems found.
     """
-    source = _source_name(path)
+    source = _source_name(path) if source is None else _printable(source)
     try:
         info = os.stat(path)
     except (OSError, ValueError) as exc:

@@ -15,6 +15,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from .bodies import ARC_POINTS, body_rings, pose
 from .evaluate import ArmEvaluation
+from .ik import Status
 from .rings import Rings, rings_from_arrays
 
 __all__ = ["SEGMENT_SAMPLES", "CollisionSet", "contact_points", "collisions"]
@@ -149,6 +150,11 @@ def collisions(
 ) -> CollisionSet:
     """The colliding configurations of an arm's (shown) targets.
 
+    Included: every within-limit, allowed configuration that collides, and for a target
+    that fails on other grounds (a joint limit, the elbow setting, the base) the
+    configuration that comes closest (:meth:`ArmEvaluation.closest`, the pose drawings
+    show it in) when that pose collides.
+
     Parameters
     ----------
     ev : ArmEvaluation
@@ -168,6 +174,18 @@ def collisions(
     if not n or ev.bodies is None or not ev.collides.size:
         return empty
     ok = np.asarray(ev.ik.ok, dtype=bool) & np.asarray(ev.collides, dtype=bool)
+    # A target failing on reach-free grounds (a limit, the elbow setting, the base) is drawn
+    # in the configuration that comes closest; where that pose collides, show it too.
+    other = ~np.asarray(ev.feasible, dtype=bool) & np.asarray(ev.ik.reachable, dtype=bool)
+    other &= np.asarray(ev.status) != int(Status.COLLISION)
+    if other.any():
+        # ArmEvaluation.closest for these targets, vectorised (every pointer move of a drag):
+        # the allowed configuration with the larger limit margin, the positive one on a tie.
+        m = np.where(np.asarray(ev.ik.allowed, dtype=bool), ev.ik.limit_margin_deg, -np.inf)
+        m = np.nan_to_num(m, nan=-np.inf)
+        k = np.where(m[:, 0] >= m[:, 1], 0, 1)
+        rows = np.flatnonzero(other)
+        ok[rows, k[rows]] |= np.asarray(ev.collides, dtype=bool)[rows, k[rows]]
     if show is not None:
         ok &= np.asarray(show, dtype=bool)[:, None]
     ok[:, 1] &= ~np.asarray(ev.ik.singular, dtype=bool)  # one pose at a singular target

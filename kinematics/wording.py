@@ -44,6 +44,8 @@ __all__ = [
     "arm_contact_text",
     "zone_overlap_text",
     "separation_text",
+    "zone_text",
+    "NO_ARMS",
 ]
 
 #: The one word for a target that passes every check.
@@ -63,6 +65,10 @@ STATUS_WORDS = {
     Status.COLLISION: "collides with a fixture",
     Status.BASE_OVERLAP: "base overlaps a fixture",
 }
+
+#: Said by the check table and the window for a cell without arms (allowed: fixtures may
+#: be laid out first).
+NO_ARMS = "No arms in this cell yet: add an arm to see what it reaches."
 
 _DASH = "—"
 
@@ -417,4 +423,24 @@ def separation_text(separation: Any, units: str) -> str:
     return (
         f"arms {a} and {b} come within {length(separation.gap, units)} "
         f"({a} {ba}, {b} {bb} at {separation.time_s:.2f} s)"
+    )
+
+
+def zone_text(names: tuple[str, str], kind: str, area: float, units: str) -> str:
+    """The sentence about a shared zone: two arms' spaces overlap, an interlock is needed.
+
+    ``names`` are the two arms' names, ``kind`` "restricted" or "operating" (ISO 10218
+    terms), ``area`` in the cell's units squared.
+
+    Examples
+    --------
+    >>> zone_text(("Left", "Right"), "restricted", 61234.5, "mm")
+    'shared zone Left + Right: restricted spaces overlap over 61,234 mm², an interlock is needed'
+    >>> zone_text(("A", "B"), "operating", 12.345, "in")
+    'shared zone A + B: operating spaces overlap over 12.35 in², an interlock is needed'
+    """
+    digits = 0 if units == "mm" else 2
+    return (
+        f"shared zone {names[0]} + {names[1]}: {kind} spaces overlap over "
+        f"{area:,.{digits}f} {units}², an interlock is needed"
     )

@@ -15,6 +15,7 @@ returns to full quality once the document's changes pause.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 import pyqtgraph as pg
@@ -34,6 +35,7 @@ from PySide6.QtWidgets import (
 from app import style
 from app.document import Changes, Document
 from app.interaction import edits
+from app.interaction.band import BandSelect
 from app.interaction.drag import DRAG_PX, DragMachine
 from app.interaction.fit import FIT_PADDING, cell_box, fit_box
 from app.interaction.picking import Hit, pick, pick_target
@@ -58,6 +60,7 @@ from .layers import Frame, Z
 from .layers.bases import BasesLayer, base_radius
 from .layers.collisions import CONTACT_SYMBOL, CollisionsLayer
 from .layers.collisions import LOOKS as COLLISION_LOOKS
+from .layers.fixture_names import FIXTURE_NAMES_KEY, FixtureNamesLayer
 from .layers.fixtures import FixturesLayer
 from .layers.ghosts import GhostsLayer, ghost_pen
 from .layers.notes import NoteLayer
@@ -70,6 +73,7 @@ from .layers.targets import TargetsLayer
 from .layers.underlay import UnderlayLayer
 from .layers.variant_ghosts import VARIANT_GHOST_KEY, VariantGhostsLayer
 from .legend import LegendEntry, LegendWidget
+from .legend_place import LegendToggle
 from .qtstyle import OVERLAY_LOOKS, colour, cosmetic_pen, fixture_look
 from .view import Grid, PlanView, ScaleBar
 
@@ -136,6 +140,9 @@ class CellCanvas(QWidget):
         # Dialog hooks, replaceable in tests (the real ones are modal).
         self.ask_position = dialogs.ask_position
         self.ask_name = dialogs.ask_name
+        # Height of a fixture just drawn, by its kind (None: none given); the window asks.
+        self.new_fixture_height = lambda kind: None
+        self._band = BandSelect()
 
         self.plot = PlanView(background=style.PAPER)
         # Smooth outlines for every plain Qt item (pyqtgraph's own default is off).
@@ -193,6 +200,7 @@ class CellCanvas(QWidget):
         self.bases = BasesLayer(self)
         self.targets = TargetsLayer(self)
         self.notes = NoteLayer(self)
+        self.fixture_names = FixtureNamesLayer(self)
         self.vb.sigRangeChanged.connect(lambda *_a: self.notes.layout())
         # The arms at the playback time, while a view showing the playback is open.
         self.playback = PlaybackLayer(self, playback_clock(document))
@@ -208,6 +216,10 @@ class CellCanvas(QWidget):
         self._measure_item = QGraphicsPathItem()
         self._measure_item.setPen(cosmetic_pen(style.PALETTE["harbour"], 2.0))
         self.add(self._measure_item, Z["tool"])
+        self._band_item = QGraphicsPathItem()
+        self._band_item.setPen(cosmetic_pen(style.PALETTE["harbour"], 1.5, "dash"))
+        self._band_item.setData(0, "tool.band")
+        self.add(self._band_item, Z["tool"])
         self._measure_label = pg.TextItem(
             "", color=style.INK, anchor=(0.5, 1.2), fill=pg.mkBrush(colour(style.PAPER, 0.85))
         )
@@ -223,6 +235,7 @@ class CellCanvas(QWidget):
 
         self._actions: dict[str, QAction] = {}
         self._build_actions()
+        self.legend_toggle = LegendToggle(self)
 
         self.plot.viewport().installEventFilter(self)
         self.plot.viewport().setMouseTracking(True)
@@ -292,11 +305,11 @@ class CellCanvas(QWidget):
         self._place_legend()
 
     def _place_legend(self) -> None:
-        """Show the legend when asked for and when the plot keeps a useful width beside it."""
-        room = self.width() - self.legend_area.width() >= LEGEND_MIN_PLOT_PX
-        on = self._actions["legend.show"].isChecked() and room
-        if on != self.legend_area.isVisibleTo(self):
-            self.legend_area.setVisible(on)
+        """Show the legend beside the plot when it leaves the plot most of the canvas, else
+        as a button that opens it (:mod:`app.canvas.legend_place`)."""
+        toggle = getattr(self, "legend_toggle", None)
+        if toggle is not None:
+            toggle.place()
 
     def showEvent(self, event) -> None:  # noqa: N802 (Qt name)
         super().showEvent(event)
@@ -405,6 +418,11 @@ class CellCanvas(QWidget):
                 self._swallow_until_release = True
                 self.status_message.emit("Move cancelled")
             return
+        if self._band.active:
+            self._band.cancel()
+            self._band_item.setPath(QPainterPath())
+            self.status_message.emit("Cancelled")
+            return
         if self._polygon.points or self._rectangle.start or self._measure.points:
             self._clear_tool_state()
             self.status_message.emit("Cancelled")
@@ -452,10 +470,13 @@ class CellCanvas(QWidget):
             self._action(key, text, on, ghosts).toggled.connect(
                 lambda on: on and self.refresh(all_arms=True)
             )
+        names = self._action(f"overlay.{FIXTURE_NAMES_KEY}", "Fixture names", False)
+        names.setToolTip("Write each fixture's name inside its outline")
+        names.toggled.connect(lambda _on: self.refresh(all_arms=True))
         legend = self._action("legend.show", "Show legend", True)
         legend.setToolTip(
-            f"The legend beside the plot (it steps aside while the plot would be narrower "
-            f"than {LEGEND_MIN_PLOT_PX} pixels)"
+            "The legend beside the plot (in a narrow canvas it collapses to a Legend button "
+            "in the plot's corner)"
         )
         legend.toggled.connect(lambda _on: self._place_legend())
         place = self._action("overlay.placement", "Placement map of the selected arm", False)
@@ -492,7 +513,8 @@ class CellCanvas(QWidget):
         self._clear_tool_state()
         self.plot.viewport().setCursor(QCursor(cursor))
         hints = {
-            "tool.select": "Drag bases, targets, fixtures, vertices; Shift-drag a base to turn it",
+            "tool.select": "Drag bases, targets, fixtures, vertices; Shift-drag a base to turn "
+            "it; Shift-drag elsewhere selects an area (Ctrl+Shift adds to it)",
             "tool.polygon": "Click vertices; double-click or Enter finishes, Backspace undoes one",
             "tool.rectangle": "Drag a rectangle to add a fixture",
             "tool.measure": "Click two points to measure",
@@ -581,6 +603,7 @@ class CellCanvas(QWidget):
             self.notes.set(
                 self.collisions.notes + self.swept.notes + self.spaces.notes + self.playback.notes
             )
+        self.fixture_names.update(frame)
         self._drawn = dict(evaluation.arms)
         self._refresh_legend(frame)
 
@@ -699,6 +722,9 @@ class CellCanvas(QWidget):
             c = self.world_to_viewport(item.x, item.y)
             half = 30.0 + 4.0 * len(item.name)
             out.append((c.x() - half, c.y() - 22.0, c.x() + half, c.y() + 22.0))
+            r = item.name_rect  # where the name was painted last, when it has been
+            if r is not None:
+                out.append((r.left() - 3.0, r.top() - 2.0, r.right() + 3.0, r.bottom() + 2.0))
         if len(xy) and not placed and not self._notes_retry:
             # Target labels are laid out when painted: place the notes again after that.
             self._notes_retry = True
@@ -830,6 +856,10 @@ class CellCanvas(QWidget):
         tool = self._tool()
         if tool == "select":
             hit = self._pick(p.x, p.y)
+            if p.shift and (hit is None or hit.kind == "fixture"):
+                # Shift-drag over empty space or a fixture's area: rubber-band selection.
+                self._band.press(p, self.document.selection.ids)
+                return True
             if hit is None:
                 self._empty_press = QPointF(pos)
                 return False  # pan the view
@@ -866,6 +896,11 @@ class CellCanvas(QWidget):
         p = self._pointer(ev)
         self.cursor_moved.emit(p.x, p.y)
         if self._swallow_until_release:
+            return True
+        if self._band.active:
+            box = self._band.move(p)
+            if box is not None:
+                self._band_item.setPath(_polyline(_box_points(box)))
             return True
         if self._drag.drag is not None:
             step = self._drag.move(p, self._snapper, self._px())
@@ -909,6 +944,13 @@ class CellCanvas(QWidget):
             return False
         if self._swallow_until_release:
             self._swallow_until_release = False
+            return True
+        if self._band.active:
+            self._band_item.setPath(QPainterPath())
+            chosen = self._band.release(self._pointer(ev), self.document.cell)
+            if chosen is not None:
+                self.document.selection.set(chosen)
+                self.status_message.emit(f"{len(chosen)} selected")
             return True
         if self._drag.drag is not None:
             self._hide_snap()
@@ -1048,6 +1090,10 @@ class CellCanvas(QWidget):
             self.status_message.emit(f"Cannot add the fixture: {done.problem}")
             return
         cell, f = edits.add_fixture(self.document.cell, done.outline)
+        height = self.new_fixture_height(f.kind)
+        if height is not None:
+            f = replace(f, height=float(height))
+            cell = replace(cell, fixtures=cell.fixtures[:-1] + (f,))
         self.document.edit(f"Add fixture {f.name}", cell)
         self.document.selection.set((f.id,))
 
@@ -1187,6 +1233,11 @@ class CellCanvas(QWidget):
             return
         new = edits.set_outline(cell, f.id, pts)
         self.document.edit(f"Delete vertex of {f.name}", new)
+
+
+def _box_points(box) -> list[tuple[float, float]]:
+    x0, y0, x1, y1 = box
+    return [(x0, y0), (x1, y0), (x1, y1), (x0, y1), (x0, y0)]
 
 
 def _polyline(points) -> QPainterPath:

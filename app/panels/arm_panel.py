@@ -10,13 +10,17 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QAction
 from PySide6.QtWidgets import (
     QComboBox,
     QGridLayout,
     QGroupBox,
+    QHBoxLayout,
     QLabel,
     QLineEdit,
     QScrollArea,
+    QToolButton,
     QVBoxLayout,
     QWidget,
 )
@@ -32,16 +36,36 @@ from app.panels.validate import (
     replace_arm,
 )
 from kinematics.cell import ELBOW_SETTINGS, Arm
+from kinematics.wording import NO_ARMS
 
 __all__ = ["ArmPanel", "GROUPS", "ELBOW_WORDS"]
 
 #: Field keys per group box, in display order.
 GROUPS = (
     ("Base", ("name", "x", "y", "heading_deg")),
-    ("Links", ("a1", "a2", "r1", "r2")),
+    ("Links and bodies", ("a1", "a2", "r1", "r2", "under", "tool_r")),
     ("Joint limits", ("q1_min", "q1_max", "q2_min", "q2_max")),
-    ("Motion", ("w1", "w2", "al1", "al2")),
+    ("Mechanical limits", ("m1_min", "m1_max", "m2_min", "m2_max")),
+    ("Motion", ("w1", "w2", "al1", "al2", "j1", "j2")),
 )
+
+#: Placeholder and tooltip of optional fields that are not a pair of joint values.
+_OPTIONAL_HINTS = {
+    "under": (
+        "not given",
+        "Height of the links' underside above the floor (0 or more): fixtures lower than it, "
+        "less the cell's clearance margin, are passed over. Empty: every fixture blocks.",
+    ),
+    "tool_r": (
+        "not given",
+        "Radius of the tool body, a disc at the tool point (fixtures taller than a target's "
+        "work height block it). Empty: no tool disc.",
+    ),
+    "m1_min": ("as the joint limit", "The full mechanical range, for the maximum space only"),
+    "m1_max": ("as the joint limit", "The full mechanical range, for the maximum space only"),
+    "m2_min": ("as the joint limit", "The full mechanical range, for the maximum space only"),
+    "m2_max": ("as the joint limit", "The full mechanical range, for the maximum space only"),
+}
 
 #: Words for the elbow setting choices.
 ELBOW_WORDS = {
@@ -50,11 +74,22 @@ ELBOW_WORDS = {
     "negative": "negative only (q2 < 0)",
 }
 
-_UNIT_TEXT = {"deg": "°", "deg/s": "°/s", "deg/s²": "°/s²", "": ""}
+_UNIT_TEXT = {"deg": "°", "deg/s": "°/s", "deg/s²": "°/s²", "deg/s³": "°/s³", "": ""}
 
 
 class ArmPanel(QWidget):
-    """Edits one arm of the document; a choice list picks the arm when there are several."""
+    """Edits one arm of the document; a choice list picks the arm when there are several.
+
+    Signals
+    -------
+    refused(str)
+        A field was left with text it refused (what, and the value that stays).
+    arm_changed(str)
+        The arm being edited changed (its id).
+    """
+
+    refused = Signal(str)
+    arm_changed = Signal(str)
 
     def __init__(self, document: Document, parent: QWidget | None = None) -> None:
         super().__init__(parent)
@@ -73,6 +108,14 @@ class ArmPanel(QWidget):
         top.addWidget(self.arm_choice, 0, 1)
         top.setColumnStretch(1, 1)
         outer.addLayout(top)
+        self.action_row = QHBoxLayout()
+        self.action_row.setContentsMargins(0, 0, 0, 0)
+        outer.addLayout(self.action_row)
+        self.no_arms = QLabel(NO_ARMS + " (Cell > Add Arm…)")
+        self.no_arms.setObjectName("no_arms")
+        self.no_arms.setWordWrap(True)
+        self.no_arms.setVisible(False)
+        outer.addWidget(self.no_arms)
 
         body = QWidget()
         body_layout = QVBoxLayout(body)
@@ -96,6 +139,8 @@ class ArmPanel(QWidget):
         scroll = QScrollArea()
         scroll.setWidgetResizable(True)
         scroll.setFrameShape(QScrollArea.Shape.NoFrame)
+        # The fields narrow with the dock rather than scroll sideways.
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
         scroll.setWidget(body)
         outer.addWidget(scroll, 1)
 
@@ -115,7 +160,11 @@ class ArmPanel(QWidget):
         edit = QLineEdit()
         edit.setObjectName(f"field_{f.key}")
         edit.setAccessibleName(f.label)
-        if f.optional:
+        if f.key in _OPTIONAL_HINTS:
+            hint, tip = _OPTIONAL_HINTS[f.key]
+            edit.setPlaceholderText(hint)
+            edit.setToolTip(tip)
+        elif f.optional:
             edit.setPlaceholderText("not given")
             edit.setToolTip("Leave empty if unknown; one value fills both joints")
         unit = QLabel()
@@ -134,8 +183,19 @@ class ArmPanel(QWidget):
             reason,
             check=lambda text, f=f: self._changed_cell(f, text),
             commit=lambda text, f=f: self._commit(f, text),
+            label=text,
         )
+        self.bindings[f.key].refused.connect(self.refused.emit)
         return row + 2
+
+    def set_arm_actions(self, actions: list[QAction]) -> None:
+        """Buttons above the fields for arm commands (add, duplicate, delete, rename)."""
+        for act in actions:
+            button = QToolButton()
+            button.setDefaultAction(act)
+            button.setToolButtonStyle(button.toolButtonStyle().ToolButtonTextOnly)
+            self.action_row.addWidget(button)
+        self.action_row.addStretch(1)
 
     def _elbow_box(self) -> QGroupBox:
         box = QGroupBox("Elbow configuration")
@@ -174,6 +234,8 @@ class ArmPanel(QWidget):
         ids = [a.id for a in arms]
         if self._arm_id not in ids:
             self._arm_id = ids[0] if ids else None
+            if self._arm_id is not None:
+                self.arm_changed.emit(self._arm_id)
         with blocked(self.arm_choice):
             self.arm_choice.clear()
             for a in arms:
@@ -183,6 +245,7 @@ class ArmPanel(QWidget):
         several = len(arms) > 1
         self.arm_choice.setVisible(several)
         self.arm_choice_label.setVisible(several)
+        self.no_arms.setVisible(not arms)
 
     def _show_arm(self) -> None:
         arm = self.arm
@@ -225,12 +288,15 @@ class ArmPanel(QWidget):
         if arm_id is not None and arm_id != self._arm_id:
             self._arm_id = arm_id
             self._show_arm()
+            self.arm_changed.emit(arm_id)
 
     def _changed_cell(self, f: ArmField, text: str):
         arm = self.arm
         if arm is None:
             raise Invalid("the cell has no arm")
-        return check_cell(replace_arm(self.document.cell, f.put(arm, text)))
+        cell = self.document.cell
+        index = next(i for i, a in enumerate(cell.arms) if a.id == arm.id)
+        return check_cell(replace_arm(cell, f.put(arm, text)), focus=("arms", index))
 
     def _commit(self, f: ArmField, text: str) -> None:
         arm = self.arm

@@ -1,6 +1,6 @@
-"""The problems list: every infeasible target, every colliding or impossible move, then
-two arms that touch while they run their cycles together and shared zones both occupy
-at once.
+"""The problems list: every infeasible target, every colliding or impossible move, every
+shared zone (two arms' restricted spaces overlap: an interlock is needed), then two arms
+that touch while they run their cycles together and shared zones both occupy at once.
 
 Each entry gives the reason in words and numbers (from :mod:`kinematics.wording`).
 Clicking a target's entry selects the target and asks the canvas to centre on it;
@@ -28,11 +28,15 @@ from app.document import Changes, Document
 from app.panels.text import move_problems
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
+from kinematics.bodies import BodyDataError
 from kinematics.ik import Status
 from kinematics.playback import interval_overlaps
-from kinematics.wording import arm_contact_text, target_reason, zone_overlap_text
+from kinematics.wording import arm_contact_text, target_reason, zone_overlap_text, zone_text
 
-__all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS"]
+__all__ = ["ProblemsList", "NO_PROBLEMS", "NO_TARGETS", "ZONE_GLYPH"]
+
+#: Marks a shared zone's entry (the hatched-grid look of the zones on the canvas).
+ZONE_GLYPH = "▦"
 
 #: Shown when every target is feasible and every move clear.
 NO_PROBLEMS = (
@@ -45,6 +49,7 @@ NO_TARGETS = "No targets yet: add targets to see what the arms reach"
 _ID_ROLE = Qt.ItemDataRole.UserRole
 _MOVE_ROLE = Qt.ItemDataRole.UserRole + 1
 _TIME_ROLE = Qt.ItemDataRole.UserRole + 2
+_ZONE_ROLE = Qt.ItemDataRole.UserRole + 3
 #: Marks of the arms-in-time entries: two arms touch (circled cross), a zone both occupy.
 CONTACT_GLYPH, OVERLAP_GLYPH = "⊗", "◫"
 
@@ -78,6 +83,7 @@ class ProblemsList(QListWidget):
         pause_timer(document)  # the "changes paused" clock this view waits for
         self._target_lines: list[tuple[str, str, int]] = []  # (id, line, status)
         self._move_lines: list[tuple[tuple[str, str, str], str]] = []
+        self._zone_lines: list[tuple[tuple[str, str], str]] = []
         self._time_lines: list[tuple[str, str, float]] = []  # (key, line, time)
         self._shown: list[tuple[_Key, str]] = []
         self._names_of: tuple = ()
@@ -101,12 +107,24 @@ class ProblemsList(QListWidget):
         document.events.cell_changed.connect(self._on_cell_changed)
         document.events.changes_paused.connect(self._on_paused)
         document.selection.changed.connect(lambda _ids: self._show_selection())
-        self._refresh(moves=True)
+        # A new window defers moves, zones and arms in time until it has painted once.
+        self._moves_stale = document.unsettled
+        self._refresh(moves=not document.unsettled)
 
     @property
     def count_of_problems(self) -> int:
-        """Entries listed: failing targets, colliding or impossible moves, arms in time."""
-        return len(self._target_lines) + len(self._move_lines) + len(self._time_lines)
+        """Entries listed: failing targets, colliding or impossible moves, shared zones,
+        arms in time."""
+        return (
+            len(self._target_lines)
+            + len(self._move_lines)
+            + len(self._zone_lines)
+            + len(self._time_lines)
+        )
+
+    def problem_zones(self) -> list[tuple[str, str]]:
+        """The arm pairs of the shared zones listed, in order."""
+        return [key for key, _ in self._zone_lines]
 
     @property
     def failing_targets(self) -> int:
@@ -149,6 +167,7 @@ class ProblemsList(QListWidget):
         if moves:
             self._moves_stale = False
             self._move_lines = self._compute_moves()
+            self._zone_lines = self._compute_zones()
             self._time_lines = self._compute_times()
         self._target_lines = self._compute_targets(plain=self.document.unsettled)
         self._show()
@@ -223,6 +242,26 @@ class ProblemsList(QListWidget):
             out.append(("\0".join(("z", z.space, *z.arms, repr(t))), line, t))
         return out
 
+    def _compute_zones(self) -> list[tuple[tuple[str, str], str]]:
+        """One entry per pair of arms whose restricted spaces overlap (ISO 10218 terms):
+        they need an interlock. The operating zones lie inside these."""
+        cell = self.document.cell
+        if len(cell.arms) < 2:
+            return []
+        try:
+            zones = self.document.evaluation.spaces(operating=False).zones
+        except (BodyDataError, ValueError):
+            return []
+        names = {a.id: a.name for a in cell.arms}
+        out = []
+        for z in zones:
+            if z.kind != "restricted":
+                continue
+            a, b = z.arms
+            line = zone_text((names.get(a, a), names.get(b, b)), z.kind, z.area, cell.units)
+            out.append(((a, b), f"{ZONE_GLYPH} {line}"))
+        return out
+
     def _wanted(self) -> list[tuple[_Key, str, QBrush | None, str]]:
         out: list[tuple[_Key, str, QBrush | None, str]] = []
         for tid, line, st in self._target_lines:
@@ -232,6 +271,13 @@ class ProblemsList(QListWidget):
             brush = self._brush(int(Status.COLLISION if collides else Status.Q2_LIMIT))
             tip = f"{line}\nClick to select and show both targets of the move."
             out.append((("m", "\0".join(key)), line, brush, tip))
+        for (a, b), line in self._zone_lines:
+            tip = (
+                f"{line}\nTurn on View > Overlays > Shared zones to see where; click to select "
+                "both arms."
+            )
+            brush = QBrush(QColor(PALETTE["amber"]).darker(170))
+            out.append((("z", f"{a}\0{b}"), line, brush, tip))
         for key, line, t in self._time_lines:
             tip = f"{line}\nClick to show the arms at {t:.3f} s on the timeline."
             out.append((("a", key), line, self._brush(int(Status.COLLISION)), tip))
@@ -289,6 +335,8 @@ class ProblemsList(QListWidget):
             elif kind == "a":
                 t = next(t for k, _line, t in self._time_lines if k == ident)
                 item.setData(_TIME_ROLE, t)
+            elif kind == "z":
+                item.setData(_ZONE_ROLE, ident.split("\0"))
             else:
                 item.setFlags(Qt.ItemFlag.ItemIsEnabled)
             item.setToolTip(tip)
@@ -304,7 +352,9 @@ class ProblemsList(QListWidget):
         if tid:
             return [tid]
         move = item.data(_MOVE_ROLE)
-        return list(dict.fromkeys(move[1:])) if move else []
+        if not move:
+            return list(item.data(_ZONE_ROLE) or [])
+        return list(dict.fromkeys(move[1:]))
 
     def _on_clicked(self, item: QListWidgetItem) -> None:
         t = item.data(_TIME_ROLE)
@@ -319,7 +369,7 @@ class ProblemsList(QListWidget):
         self._show_selection()
         if item.data(_ID_ROLE):
             self.zoom_requested.emit(ids[0])
-        else:
+        elif item.data(_MOVE_ROLE):
             self.zoom_targets_requested.emit(ids)
 
     def _on_view_selection(self) -> None:

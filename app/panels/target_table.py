@@ -33,8 +33,17 @@ from PySide6.QtWidgets import (
 
 from app.bind import EchoGuard
 from app.document import Changes, Document
+from app.interaction.sequence_edits import in_sequences
 from app.panels.text import clearance_text, degrees, length, nearest_text, status_cell
-from app.panels.validate import Invalid, check_cell, format_number, replace_target, target_with
+from app.panels.validate import (
+    TARGET_EXTRA_COLUMNS,
+    Invalid,
+    check_cell,
+    format_number,
+    replace_target,
+    target_with,
+    targets_with,
+)
 from app.pause import pause_timer
 from app.style import PALETTE, status_style
 from kinematics.ik import Status
@@ -46,6 +55,7 @@ __all__ = [
     "SORT_ROLE",
     "PAST_LIMIT",
     "FORBIDDEN",
+    "ID_ROLE",
     "TargetTableModel",
     "TargetTable",
 ]
@@ -71,7 +81,23 @@ COLUMNS = (
     Column("x", "x", "x in the cell's units (editable)", editable=True, numeric=True),
     Column("y", "y", "y in the cell's units (editable)", editable=True, numeric=True),
     Column("arm", "arm", "Arm the target is assigned to (editable)", editable=True),
-    Column("status", "status", "ok, or why the target fails"),
+    Column(
+        "work_height",
+        "work height",
+        "Height the tool works at (editable; empty: not given, the tool then follows the link "
+        "rule); with several rows selected an edit sets them all",
+        editable=True,
+        numeric=True,
+    ),
+    Column(
+        "dwell",
+        "dwell",
+        "Seconds spent at the target, added to the cycle time (editable; empty: 0); with "
+        "several rows selected an edit sets them all",
+        editable=True,
+        numeric=True,
+    ),
+    Column("status", "status", "feasible, or why the target fails"),
     Column("elbow", "elbow", "Chosen elbow configuration (both at a singular pose)"),
     Column("q1p", "q1 +", "q1, positive configuration (q2 > 0); ✕ past its limit", numeric=True),
     Column("q2p", "q2 +", "q2, positive configuration; ✕ past its limit", numeric=True),
@@ -131,7 +157,17 @@ _EDIT_LABELS = {
     "x": "Move {id}",
     "y": "Move {id}",
     "arm": "Assign {id} to arm",
+    "work_height": "Set work height of {id}",
+    "dwell": "Set dwell of {id}",
 }
+
+
+def _extra_text(t: Any, column: str, units: str) -> tuple[str, float]:
+    """Text and sort value of a work height or dwell ('' and -inf when not given)."""
+    v = t.extra.get(TARGET_EXTRA_COLUMNS[column][0])
+    if not isinstance(v, int | float) or isinstance(v, bool):
+        return "", -math.inf
+    return (length(float(v), units, False) if column == "work_height" else f"{v:g}"), float(v)
 
 
 @dataclass
@@ -204,10 +240,11 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
     try:
         ev, i = evaluation.locate(t.id)
     except KeyError:
-        text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm]
-        rest = len(COLUMNS) - 6
+        (wh, wh_s), (dw, dw_s) = _extra_text(t, "work_height", u), _extra_text(t, "dwell", u)
+        text = [t.id, t.name, length(t.x, u, False), length(t.y, u, False), t.arm, wh, dw]
+        rest = len(COLUMNS) - 8
         text += [f"✕ fails: no arm {t.arm!r}"] + ["—"] * rest
-        sort = [t.id, t.name, t.x, t.y, t.arm, 99] + [-math.inf] * rest
+        sort = [t.id, t.name, t.x, t.y, t.arm, wh_s, dw_s, 99] + [-math.inf] * rest
         return _Row(t.id, text, sort, int(Status.BEYOND_REACH), False)
     ik = ev.ik
     q = [float(v) for v in ik.q_deg[i].reshape(-1)]  # q1+, q2+, q1-, q2-
@@ -227,12 +264,15 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
             qtext[2 * c] = f"{FORBIDDEN} {qtext[2 * c]}"
             qtext[2 * c + 1] = f"{FORBIDDEN} {qtext[2 * c + 1]}"
             ctext[c] = f"{FORBIDDEN} {ctext[c]}"
+    (wh, wh_s), (dw, dw_s) = _extra_text(t, "work_height", u), _extra_text(t, "dwell", u)
     text = [
         t.id,
         t.name,
         length(t.x, u, False),
         length(t.y, u, False),
         t.arm,
+        wh,
+        dw,
         status_cell(ev, i, u, short=True),
         elbow,
         *qtext,
@@ -244,7 +284,7 @@ def _row(cell: Any, evaluation: Any, t: Any) -> _Row:
     ]
     seg_text, seg_sort = _segment_cell(ev, t.id)
     text.append(seg_text)
-    sort = [t.id, t.name, t.x, t.y, t.arm, st, elbow, *(_num(v) for v in q)]
+    sort = [t.id, t.name, t.x, t.y, t.arm, wh_s, dw_s, st, elbow, *(_num(v) for v in q)]
     sort += [_clear(ev, i, 0), _clear(ev, i, 1), nearest_text(ev, i, k)]
     sort += [_num(limit), _num(reach), _num(manip), seg_sort]
     tip = status_cell(ev, i, u)
@@ -284,6 +324,8 @@ def _changed_rows(old: Any, new: Any) -> set[int] | None:
         return set()
     if old is None or old.target_ids != new.target_ids:
         return None
+    if not new.target_ids:
+        return set()  # an arm without targets has no rows (and empty arrays reshape badly)
     diff = np.zeros(len(new.target_ids), dtype=bool)
     for a, b in (
         (old.status, new.status),
@@ -364,6 +406,8 @@ class TargetTableModel(QStandardItemModel):
             "reach": f"reach\nmargin ({units})",
             "manip": f"manipu-\nlability ({units}²)",
             "segment": "move in\n+ dwell (s)",
+            "work_height": f"work\nheight ({units})",
+            "dwell": "dwell\n(s)",
         }.get(col.key, col.header)
 
     def _rebuild(self) -> None:
@@ -473,11 +517,15 @@ class TargetTableModel(QStandardItemModel):
         return self._row_of.get(target_id, -1)
 
     def edit_text(self, row: int, column: int) -> str:
-        """What an editor of a cell starts with: coordinates exactly, not as shown."""
+        """What an editor of a cell starts with: numbers exactly, not as shown."""
         key = _KEYS[column]
         t = self.document.cell.targets[row]
         if key in ("x", "y"):
             return format_number(getattr(t, key))
+        if key in TARGET_EXTRA_COLUMNS:
+            v = t.extra.get(TARGET_EXTRA_COLUMNS[key][0])
+            ok = isinstance(v, int | float) and not isinstance(v, bool)
+            return format_number(float(v)) if ok else ""
         return str(self.item(row, column).text())
 
     def setData(
@@ -490,6 +538,9 @@ class TargetTableModel(QStandardItemModel):
             return False
         cell = self.document.cell
         target = cell.targets[index.row()]
+        ids = self.ids_for_edit(index.row()) if key != "name" else [target.id]
+        if ids != [target.id] or key == "arm":
+            return self.set_column(ids, key, str(value))
         try:
             changed = target_with(cell, target, key, str(value))
             new_cell = check_cell(replace_target(cell, changed))
@@ -501,6 +552,49 @@ class TargetTableModel(QStandardItemModel):
             label = f"Assign {target.id} to {changed.arm}"
         self.document.edit(label, new_cell)
         return True
+
+    def ids_for_edit(self, row: int) -> list[str]:
+        """The targets an edit of ``row`` applies to (the view sets every selected row)."""
+        return [self._ids[row]]
+
+    def ask_sequence_place(self, target_ids: list[str], arm_id: str) -> str:
+        """Targets in a sequence go to another arm: "end" (to the end of its sequence),
+        "drop" (out of the sequence) or "cancel". Replaced by the window and by tests."""
+        from app.panels.column_edit import ask_sequence_place
+
+        return ask_sequence_place(None, self.document.cell, target_ids, arm_id)
+
+    def set_column(self, ids: list[str], key: str, text: str) -> bool:
+        """Set one editable column of several targets to the same typed value: one undo step;
+        a change of arm asks what becomes of the targets' places in sequences."""
+        cell = self.document.cell
+        place = "drop"
+        if key == "arm":
+            arm_id = text.strip()
+            known = [a.id for a in cell.arms]
+            if arm_id not in known:
+                self.refused.emit(f"✕ arm: no arm with id {arm_id!r} (arms: {', '.join(known)})")
+                return False
+            moving = [i for i in ids if self._target_arm(i) not in (None, arm_id)]
+            if not moving:
+                return False
+            placed = sorted(in_sequences(cell, moving))
+            if placed:
+                place = self.ask_sequence_place(placed, arm_id)
+                if place == "cancel":
+                    return False
+            ids = moving
+        try:
+            new_cell, label = targets_with(cell, ids, key, text, place)
+        except Invalid as exc:
+            self.refused.emit(f"✕ {exc}")
+            return False
+        self.document.edit(label, new_cell)
+        return True
+
+    def _target_arm(self, target_id: str) -> str | None:
+        r = self._row_of.get(target_id)
+        return None if r is None else self.document.cell.targets[r].arm
 
 
 def _cell_roles(row: _Row, c: int, key: str) -> dict[int, Any]:
@@ -590,8 +684,12 @@ class TargetTable(QTableView):
         header.setStretchLastSection(False)
         self.setItemDelegateForColumn(_KEYS.index("arm"), _ArmDelegate(document, self))
         self._exact = _ExactDelegate(self)
-        for key in ("x", "y"):
+        for key in ("x", "y", *TARGET_EXTRA_COLUMNS):
             self.setItemDelegateForColumn(_KEYS.index(key), self._exact)
+        self.source.ids_for_edit = self._ids_for_edit
+        from app.panels.column_edit import install_column_menu
+
+        install_column_menu(self)
         self.fit_columns()
 
         self.selectionModel().selectionChanged.connect(self._on_view_selection)
@@ -634,6 +732,12 @@ class TargetTable(QTableView):
         for key, cap in _COLUMN_CAPS.items():
             c = _KEYS.index(key)
             self.setColumnWidth(c, min(self.columnWidth(c), cap))
+
+    def _ids_for_edit(self, row: int) -> list[str]:
+        """An edit of a selected row sets every selected row; of another row, that row."""
+        tid = self.source.target_id(row)
+        chosen = self.selected_ids()
+        return chosen if tid in chosen and len(chosen) > 1 else [tid]
 
     def selected_ids(self) -> list[str]:
         """Target ids of the selected rows, in view order."""

@@ -201,7 +201,7 @@ def test_bad_input_exits_2_with_one_line_naming_the_field(kind, tmp_path, capsys
     assert out == ""
     lines = err.strip().splitlines()
     assert len(lines) == 1, err
-    assert lines[0].startswith("bad.cell.json"), err
+    assert lines[0].startswith(f"{path}: "), err  # the file named as given (defect 8, issue 11)
     assert expected in lines[0], err
     assert "Traceback" not in err
     assert path.read_bytes() == before  # nothing written
@@ -298,7 +298,7 @@ def test_table_keeps_one_line_per_target_whatever_the_names_hold(tmp_path, capsy
     code, out, _ = run_check(capsys, str(path))
     assert code == 1
     assert "\x1b" not in out and "\r" not in out
-    rows = [line for line in out.splitlines() if line.startswith(("ok ", "XX "))]
+    rows = [line for line in out.splitlines() if " FAILS " in line or " feasible " in line]
     assert len(rows) == 2
     assert "far\\u000aout" in rows[0] and "beyond outer reach" in rows[0]
     assert "failing: far\\u000aout" in out
@@ -363,9 +363,9 @@ def test_every_problem_in_a_file_gets_its_own_line(tmp_path, capsys):
     before = path.read_bytes()
     code, out, err = run_check(capsys, str(path), "--json")
     assert code == 2 and out == ""
-    assert err.splitlines() == [
-        "multi.cell.json: arms[0].links[0]: must be a positive number, got -5",
-        'multi.cell.json: arms[0].elbow: must be one of "any", "positive" or "negative", got "up"',
-        'multi.cell.json: targets[0].x: must be a number, got "1"',
+    assert err.splitlines() == [  # the file named as given on the command line
+        f"{path}: arms[0].links[0]: must be a positive number, got -5",
+        f'{path}: arms[0].elbow: must be one of "any", "positive" or "negative", got "up"',
+        f'{path}: targets[0].x: must be a number, got "1"',
     ]
     assert path.read_bytes() == before

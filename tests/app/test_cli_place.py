@@ -100,7 +100,7 @@ def test_place_bad_file_is_one_line(tmp_path, capsys):
     bad = tmp_path / "bad.cell.json"
     bad.write_text("{", encoding="utf-8")
     code, out, err = run(capsys, "place", str(bad))
-    assert code == 2 and err.startswith("bad.cell.json: line 1") and out == ""
+    assert code == 2 and err.startswith(f"{bad}: line 1") and out == ""
 
 
 def test_compare_prints_every_layout(capsys):

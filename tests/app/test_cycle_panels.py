@@ -98,7 +98,9 @@ def test_head_on_meeting_listed_with_its_time(qtbot, head_on):
     assert zone_line.startswith(OVERLAP_GLYPH)
     assert f"change R's start_s by {z.suggested_start_shift_s:+.3f} s" in zone_line
     assert f"{both[0][0]:.2f}–{both[0][1]:.2f} s" in zone_line
-    assert view.count_of_problems == len(view.time_problems())
+    # Besides those: the restricted spaces overlap (an interlock is needed), one entry.
+    assert view.problem_zones() == [("L", "R")]
+    assert view.count_of_problems == len(view.time_problems()) + 1
     # Clicking the entry asks for its time.
     row = view.lines().index(line)
     with qtbot.waitSignal(view.time_requested) as got:

@@ -39,12 +39,13 @@ def test_every_subcommand_exits_3_with_one_line_on_an_internal_error(
         raise ZeroDivisionError("float division by zero")
 
     monkeypatch.setitem(cli.SUBCOMMANDS, name, broken)
-    code = cli.main([name, str(tmp_path / "line_b.cell.json"), "--json"])
+    given = str(tmp_path / "line_b.cell.json")
+    code = cli.main([name, given, "--json"])
     out, err = capsys.readouterr()
     assert code == EXIT_INTERNAL == 3
     assert out == ""
-    assert err == (
-        f"elbowroom {name}: line_b.cell.json: internal error (ZeroDivisionError); "
+    assert err == (  # the file named as given on the command line
+        f"elbowroom {name}: {given}: internal error (ZeroDivisionError); "
         f"details in {log_path()}\n"
     )
     text = log_path().read_text()
@@ -61,7 +62,7 @@ def test_an_engine_failure_in_check_is_exit_3_not_1(monkeypatch, capsys):
     code = cli.main(["check", str(TRAY)])
     err = capsys.readouterr().err
     assert code == 3 and err.count("\n") == 1
-    assert err.startswith("elbowroom check: tray_loading.cell.json: internal error (IndexError)")
+    assert err.startswith(f"elbowroom check: {TRAY}: internal error (IndexError)")
     assert "Traceback" not in err
 
 

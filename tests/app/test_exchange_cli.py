@@ -69,7 +69,7 @@ def test_export_bad_cell_exits_2(tmp_path, capsys):
     bad = tmp_path / "bad.cell.json"
     bad.write_text("{")
     code, _, err = run(capsys, "export", str(bad), "--dxf", str(tmp_path / "x.dxf"))
-    assert code == 2 and err.startswith("bad.cell.json: line 1")
+    assert code == 2 and err.startswith(f"{bad}: line 1")
     assert not (tmp_path / "x.dxf").exists()
 
 

@@ -193,11 +193,10 @@ def test_every_problem_of_a_bad_cell_file_gets_its_own_line(tmp_path):
             tmp_path,
         )
         assert proc.returncode == 2, proc.stderr
-        assert proc.stderr.splitlines() == [
-            "multi.cell.json: arms[0].links[0]: must be a positive number, got -5",
-            'multi.cell.json: arms[0].elbow: must be one of "any", "positive" or "negative", '
-            'got "up"',
-            'multi.cell.json: targets[0].x: must be a number, got "1"',
+        assert proc.stderr.splitlines() == [  # the file named as given
+            f"{bad}: arms[0].links[0]: must be a positive number, got -5",
+            f'{bad}: arms[0].elbow: must be one of "any", "positive" or "negative", got "up"',
+            f'{bad}: targets[0].x: must be a number, got "1"',
         ]
         assert not (tmp_path / "x.png").exists()
     assert bad.read_bytes() == before

@@ -116,9 +116,11 @@ def test_every_sample_cell_opens_with_table_and_problems(make_window, path):
     assert win.problems.problem_ids() == [t.id for t in cell.targets if t.id in failing]
     glyphs = ("●", "✕", "◆", "▲", "▼", "■", "★", "⬟")
     assert all(text.startswith(glyphs) for text in statuses.values())
-    # Besides failing targets: arms that meet or share a zone at once (arms in time).
-    n = len(failing) + len(win.problems.time_problems())
-    assert win.problems_dock.windowTitle() == f"Problems ({n})"
+    # The count covers the failing targets, then bad moves, shared zones and arms in
+    # time (arms that meet or share a zone at once) listed after them.
+    p = win.problems
+    more = len(p.problem_moves()) + len(p.problem_zones()) + len(p.time_problems())
+    assert win.problems_dock.windowTitle() == f"Problems ({len(failing) + more})"
 
 
 def test_problem_line_states_how_far_out_of_reach(window):
@@ -601,9 +603,11 @@ def test_mouse_drag_of_a_base_updates_table_and_problems_live_and_undoes_exactly
         assert statuses[far.id].startswith("✕ fails: beyond outer reach")
         failing = [t.id for t in win.document.cell.targets if "fails" in statuses[t.id]]
         assert win.problems.problem_ids() == failing
-        # Besides failing targets: arms that meet or share a zone at once (arms in time).
-        n = len(failing) + len(win.problems.time_problems())
-        assert win.problems_dock.windowTitle() == f"Problems ({n})"
+        # The count covers the failing targets, then bad moves, shared zones and arms in
+        # time (arms that meet or share a zone at once) listed after them.
+        p = win.problems
+        more = len(p.problem_moves()) + len(p.problem_zones()) + len(p.time_problems())
+        assert win.problems_dock.windowTitle() == f"Problems ({len(failing) + more})"
 
     check()  # live, while the button is still down
     vp = win.canvas.viewport()

@@ -291,15 +291,19 @@ def test_assigning_a_target_to_another_arm_reevaluates_it(qtbot):
     table = TargetTable(doc)
     qtbot.addWidget(table)
     src = table.source
+    asked = []
+    src.ask_sequence_place = lambda ids, arm: asked.append((ids, arm)) or "drop"
     t = next(t for t in doc.cell.targets if t.arm == "left")
     row = src.row_of(t.id)
     assert not src.setData(src.index(row, KEYS.index("arm")), "middle")
+    assert asked == []  # an arm that does not exist is refused before anything is asked
     assert src.setData(src.index(row, KEYS.index("arm")), "right")
+    assert asked == [([t.id], "right")]  # its place in the left arm's sequence: asked
     assert pushes.labels == [f"Assign {t.id} to right"]
     assert src.index(row, KEYS.index("arm")).data() == "right"
     ev, i = doc.evaluation.locate(t.id)
     assert ev.arm.id == "right"
-    # It left the left arm's sequence, which may only visit the left arm's targets.
+    # Answered "drop": it left the left arm's sequence, which may only visit its own targets.
     left_seq = next(s for s in doc.cell.sequences if s.arm == "left")
     assert t.id not in left_seq.targets
 

@@ -388,7 +388,7 @@ def _delete(d: dict, path: tuple) -> None:
         (
             ("arms", 0, "link_underside_height"),
             [1],
-            "arms[0].link_underside_height: must be a number, got [1]",
+            "arms[0].link_underside_height: must be a number of 0 or more, got [1]",
         ),
         (("fixtures", 0, "kind"), "", 'fixtures[0].kind: must be a non-empty string, got ""'),
         (
@@ -1048,7 +1048,12 @@ def cells(draw: st.DrawFn) -> Cell:
                 (lo2, lo2 + draw(st.floats(0.5, 720))),
                 draw(st.sampled_from(["any", "positive", "negative"])),
                 link_radii=draw(st.none() | st.tuples(_pos, _pos)),
-                link_underside_height=draw(st.none() | _num),
+                # A height above the floor: 0 or more (issue 11's rule).
+                link_underside_height=draw(
+                    st.none()
+                    | st.floats(0, 1e6, allow_nan=False, allow_infinity=False)
+                    | st.integers(0, 10**6)
+                ),
                 joint_speed_dps=draw(st.none() | st.tuples(_pos, _pos)),
                 joint_accel_dps2=draw(st.none() | st.tuples(_pos, _pos)),
                 extra=draw(_extras(cellfile._ARM_KEYS)),

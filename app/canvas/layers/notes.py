@@ -121,6 +121,13 @@ def place_notes(
             if best_cost <= 0:
                 break
         assert best is not None
+        # Whatever the spot, the note stays in view (a leader line shows what it is about).
+        bx, by = best
+        if w <= view[2] - view[0]:
+            bx = min(max(bx, view[0]), view[2] - w)
+        if h <= view[3] - view[1]:
+            by = min(max(by, view[1]), view[3] - h)
+        best = (float(bx), float(by))
         out.append(best)
         notes = np.vstack([notes, [[best[0], best[1], best[0] + w, best[1] + h]]])
     return out

@@ -37,7 +37,45 @@ __all__ = [
     "SpacesLayer",
     "paint_spaces",
     "paint_shared_targets",
+    "PASSES_OVER_GAP",
+    "group_boxes",
 ]
+
+#: Fixtures passed over share one note when their boxes lie closer than this part of the
+#: largest reach.
+PASSES_OVER_GAP = 0.1
+
+
+def group_boxes(boxes: list[tuple[float, float, float, float]], gap: float) -> list[list[int]]:
+    """Groups of boxes (x0, y0, x1, y1) that overlap or lie within ``gap`` of each other
+    (chains count), in order of their first box.
+
+    Examples
+    --------
+    >>> group_boxes([(0, 0, 1, 1), (1.5, 0, 2, 1), (9, 9, 10, 10)], gap=1.0)
+    [[0, 1], [2]]
+    """
+    n = len(boxes)
+    parent = list(range(n))
+
+    def root(i: int) -> int:
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    for i in range(n):
+        for j in range(i + 1, n):
+            a, b = boxes[i], boxes[j]
+            dx = max(a[0] - b[2], b[0] - a[2], 0.0)
+            dy = max(a[1] - b[3], b[1] - a[3], 0.0)
+            if max(dx, dy) <= gap:
+                parent[root(j)] = root(i)
+    groups: dict[int, list[int]] = {}
+    for i in range(n):
+        groups.setdefault(root(i), []).append(i)
+    return list(groups.values())
+
 
 #: Overlay kinds of this layer and the swept-area layer (each has an action "overlay.<kind>").
 SPACE_OVERLAYS = (
@@ -402,7 +440,8 @@ class SpacesLayer:
                     over.setdefault(f.id, []).append(arm)
         wanted = set()
         by_id = {f.id: f for f in cell.fixtures}
-        for fid, arms in over.items():
+        boxes = {}
+        for fid in over:
             f = by_id[fid]
             key = ("passes_over", fid)
             item = self.shapes.items.get(key)
@@ -419,16 +458,38 @@ class SpacesLayer:
                 item.setPath(polygon_path(f.outline))
                 item.setData(2, f.outline)
             wanted.add(key)
-            under = ", ".join(f"{a.name} (underside {a.link_underside_height:g})" for a in arms)
             xy = np.asarray(f.outline, dtype=float)
             lo, hi = xy.min(axis=0), xy.max(axis=0)
+            boxes[fid] = (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1]))
+        # One note per group of fixtures that touch or lie close together: a cell full of
+        # low bins and pockets gets a few notes, not one over every bin.
+        reach = max((a.reach_max for a in cell.arms), default=0.0)
+        for group in group_boxes([boxes[f] for f in over], PASSES_OVER_GAP * reach):
+            fids = [list(over)[k] for k in group]
+            arms = list({a.id: a for fid in fids for a in over[fid]}.values())
+            heights = sorted({float(by_id[fid].height) for fid in fids})
+            if len({a.link_underside_height for a in arms}) == 1:
+                names = ", ".join(a.name for a in arms)
+                under = f"{names} (underside {arms[0].link_underside_height:g})"
+            else:
+                under = ", ".join(f"{a.name} (underside {a.link_underside_height:g})" for a in arms)
+            if len(fids) == 1:
+                head = f"links pass over: height {heights[0]:g} {cell.units}"
+            else:
+                span = f"{heights[0]:g}" if len(heights) == 1 else f"{heights[0]:g}–{heights[-1]:g}"
+                head = f"links pass over {len(fids)} fixtures, {span} {cell.units} high"
+            x0 = min(boxes[f][0] for f in fids)
+            y0 = min(boxes[f][1] for f in fids)
+            x1 = max(boxes[f][2] for f in fids)
+            y1 = max(boxes[f][3] for f in fids)
+            ident = fids[0] if len(fids) == 1 else "+".join(sorted(fids))
             self.notes.append(
                 Note(
-                    key,
-                    f"links pass over: height {f.height:g} {cell.units}\n{under}",
-                    f"overlay.passes_over.note:{fid}",
+                    ("passes_over", ident),
+                    f"{head}\n{under}",
+                    f"overlay.passes_over.note:{ident}",
                     style.PALETTE["harbour"],
-                    (float(lo[0]), float(lo[1]), float(hi[0]), float(hi[1])),
+                    (x0, y0, x1, y1),
                     priority=3,
                 )
             )
